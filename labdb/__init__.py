@@ -1,0 +1,1 @@
+"""labdb: a shared lab database of PN-junction C–V sweeps and fitted junction models."""

@@ -1,0 +1,107 @@
+"""Lot summaries (statistics of a lot's current unit fits) and review-able flags."""
+
+from __future__ import annotations
+
+from django.conf import settings
+from django.db import models
+from django.db.models import Q
+
+from labdb.catalog.models import Lot, Part, Unit
+
+
+class LotSummary(models.Model):
+    """Per lot and condition set: statistics of the unit fits and derived figures.
+
+    The figures search filters on are columns; the rest (per-figure spread, the pointwise
+    median curve and its 10–90 % band) live in JSON.
+    """
+
+    lot = models.ForeignKey(Lot, on_delete=models.CASCADE, related_name="summaries")
+    illumination = models.CharField(max_length=16)
+    temperature_c = models.FloatField(help_text="Centre of the temperature band [°C].")
+    n_units = models.PositiveIntegerField()
+    n_sweeps = models.PositiveIntegerField()
+    cjo_med = models.FloatField()
+    vj_med = models.FloatField()
+    m_med = models.FloatField()
+    cp_med = models.FloatField(default=0.0)
+    c_low_med_f = models.FloatField(null=True, help_text="Median C at the reference low bias.")
+    c_high_med_f = models.FloatField(null=True, help_text="Median C at the reference high bias.")
+    swing_med = models.FloatField(null=True)
+    swing_min = models.FloatField(null=True, help_text="Smallest unit swing in the lot.")
+    bias_min_v = models.FloatField(help_text="Common measured range: highest unit minimum.")
+    bias_max_v = models.FloatField(help_text="Common measured range: lowest unit maximum.")
+    figures = models.JSONField(default=dict)
+    band = models.JSONField(default=dict)
+    inputs_sha256 = models.CharField(max_length=64, blank=True)
+    computed_at = models.DateTimeField(auto_now=True)
+
+    class Meta:
+        ordering = ["lot", "illumination", "temperature_c"]
+        constraints = [
+            models.UniqueConstraint(
+                fields=["lot", "illumination", "temperature_c"],
+                name="summary_unique_per_lot_condition",
+            ),
+            models.CheckConstraint(condition=Q(n_units__gte=1), name="summary_has_units"),
+        ]
+        indexes = [
+            models.Index(fields=["illumination", "temperature_c", "swing_med"]),
+        ]
+
+    def __str__(self) -> str:
+        return f"{self.lot} ({self.illumination}, {self.temperature_c:g} °C)"
+
+
+class FlagState(models.TextChoices):
+    OPEN = "open", "open"
+    ACKNOWLEDGED = "acknowledged", "acknowledged"
+    DISMISSED = "dismissed", "dismissed"
+
+
+class Flag(models.Model):
+    """A finding that a unit or a lot stands out, with its evidence and review state."""
+
+    part = models.ForeignKey(Part, on_delete=models.CASCADE, related_name="flags")
+    lot = models.ForeignKey(Lot, null=True, blank=True, on_delete=models.CASCADE, related_name="flags")
+    unit = models.ForeignKey(
+        Unit, null=True, blank=True, on_delete=models.CASCADE, related_name="flags"
+    )
+    rule = models.CharField(max_length=40)
+    figure = models.CharField(max_length=40, blank=True)
+    condition = models.CharField(max_length=40, blank=True)
+    summary = models.CharField(max_length=300)
+    evidence = models.JSONField(default=dict)
+    active = models.BooleanField(default=True, help_text="Does the rule still fire on current data?")
+    state = models.CharField(max_length=16, choices=FlagState.choices, default=FlagState.OPEN)
+    note = models.TextField(blank=True)
+    reviewed_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.SET_NULL, related_name="+"
+    )
+    reviewed_at = models.DateTimeField(null=True, blank=True)
+    created_at = models.DateTimeField(auto_now_add=True)
+    updated_at = models.DateTimeField(auto_now=True)
+
+    class Meta:
+        ordering = ["-updated_at"]
+        constraints = [
+            models.UniqueConstraint(
+                fields=["unit", "rule", "figure", "condition"],
+                condition=Q(unit__isnull=False),
+                name="flag_unique_per_unit_rule",
+            ),
+            models.UniqueConstraint(
+                fields=["lot", "rule", "figure", "condition"],
+                condition=Q(unit__isnull=True, lot__isnull=False),
+                name="flag_unique_per_lot_rule",
+            ),
+            models.CheckConstraint(
+                condition=~Q(state="acknowledged") | ~Q(note=""),
+                name="flag_acknowledged_needs_note",
+            ),
+        ]
+        indexes = [models.Index(fields=["state", "active"])]
+
+    def __str__(self) -> str:
+        subject = self.unit or self.lot or self.part
+        return f"{self.rule} {self.figure} on {subject}"

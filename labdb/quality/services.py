@@ -1,0 +1,1 @@
+"""Lot summaries and flags (filled in by the lots-over-time work)."""

@@ -1,0 +1,33 @@
+"""Serve plotly.js from the installed plotly package, so no page needs a CDN."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import plotly
+from django.contrib.staticfiles.finders import BaseFinder
+from django.core.files.storage import FileSystemStorage
+
+PLOTLY_DIR = Path(plotly.__file__).resolve().parent / "package_data"
+PLOTLY_STATIC_NAME = "vendor/plotly.min.js"
+
+
+class PlotlyFinder(BaseFinder):
+    """Expose exactly one file, ``vendor/plotly.min.js``."""
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        self.storage = FileSystemStorage(location=str(PLOTLY_DIR))
+        self.storage.prefix = "vendor"
+
+    def check(self, **kwargs):
+        return []
+
+    def find(self, path, find_all=False, **kwargs):
+        if path == PLOTLY_STATIC_NAME:
+            match = str(PLOTLY_DIR / "plotly.min.js")
+            return [match] if find_all else match
+        return [] if find_all else None
+
+    def list(self, ignore_patterns):
+        yield "plotly.min.js", self.storage

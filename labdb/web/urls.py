@@ -1,0 +1,19 @@
+"""URLs of the pages."""
+
+from django.urls import path
+
+from labdb.web.views import catalog, dashboard, fixtures, sweeps, upload
+
+urlpatterns = [
+    path("", dashboard.dashboard, name="dashboard"),
+    path("parts/", catalog.part_list, name="part-list"),
+    path("parts/<path:part_number>/", catalog.part_detail, name="part-detail"),
+    path("lots/<int:pk>/", catalog.lot_detail, name="lot-detail"),
+    path("units/<int:pk>/", catalog.unit_detail, name="unit-detail"),
+    path("sweeps/<int:pk>/", sweeps.sweep_detail, name="sweep-detail"),
+    path("sweeps/<int:pk>/raw", sweeps.sweep_raw, name="sweep-raw"),
+    path("fits/<int:pk>/", sweeps.fit_detail, name="fit-detail"),
+    path("fixtures/", fixtures.fixture_list, name="fixture-list"),
+    path("fixtures/<int:pk>/", fixtures.fixture_detail, name="fixture-detail"),
+    path("upload/", upload.upload, name="upload"),
+]
