@@ -67,8 +67,10 @@ class Calibration(models.Model):
     freq_hz = models.JSONField(help_text="Oscillator frequency with each reference [Hz].")
     inductance_h = models.FloatField()
     stray_f = models.FloatField()
-    covariance = models.JSONField(help_text="2×2 covariance of (L [H], C_stray [F]).")
-    residuals = models.JSONField(default=list)
+    covariance = models.JSONField(
+        null=True, help_text="2×2 covariance of (L [H], C_stray [F]); null when undetermined."
+    )
+    residuals = models.JSONField(default=list, help_text="Measured − fitted frequency [Hz].")
     coupling_f = models.FloatField(null=True, blank=True)
     notes = models.TextField(blank=True)
     created_by = models.ForeignKey(

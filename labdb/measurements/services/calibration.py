@@ -28,6 +28,7 @@ def record_calibration(
         cal = calibrate_oscillator(ref_capacitance_f, freq_hz, coupling_f=fixture.coupling_f)
     except PhysicsInputError as exc:
         raise Rejected(Problem(str(exc))) from None
+    d = cal.to_dict()
     try:
         with transaction.atomic():
             return Calibration.objects.create(
@@ -37,8 +38,8 @@ def record_calibration(
                 freq_hz=[float(f) for f in freq_hz],
                 inductance_h=cal.inductance_h,
                 stray_f=cal.stray_f,
-                covariance=[[float(v) for v in row] for row in cal.covariance],
-                residuals=[float(r) for r in cal.residuals],
+                covariance=d["covariance"],
+                residuals=d["residuals_hz"],
                 coupling_f=fixture.coupling_f,
                 notes=notes,
                 created_by=user,
@@ -51,8 +52,16 @@ def record_calibration(
 
 def as_physics(calibration: Calibration) -> OscillatorCalibration:
     """The stored calibration as the physics core's object."""
-    return calibrate_oscillator(
-        calibration.ref_capacitance_f, calibration.freq_hz, coupling_f=calibration.coupling_f
+    return OscillatorCalibration.from_dict(
+        {
+            "inductance_h": calibration.inductance_h,
+            "stray_f": calibration.stray_f,
+            "covariance": calibration.covariance,
+            "residuals_hz": calibration.residuals,
+            "ref_capacitance_f": calibration.ref_capacitance_f,
+            "freq_hz": calibration.freq_hz,
+            "coupling_f": calibration.coupling_f,
+        }
     )
 
 

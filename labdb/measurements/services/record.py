@@ -120,6 +120,8 @@ def _prepare(parsed: ParsedSweep, ctx: SweepContext, source: str) -> _Prepared:
     if parsed.unit_label:
         meta["unit"] = parsed.unit_label
     notes = list(parsed.notes) + list(conflicts)
+    if meta.get("temperature_c") in (None, ""):
+        notes.append("no temperature given: assumed 25 °C")
 
     part_no = _required(meta, "part", source)
     part = Part.objects.filter(part_number=part_no).first()
@@ -201,6 +203,11 @@ def _prepare(parsed: ParsedSweep, ctx: SweepContext, source: str) -> _Prepared:
     )
 
 
+def _temperature(value) -> float:
+    # Bench default when neither the file nor the form says: room temperature.
+    return 25.0 if value in (None, "") else float(value)
+
+
 def _illumination(value) -> str:
     if value in (None, ""):
         return Illumination.DARK
@@ -244,7 +251,7 @@ def _store(prep: _Prepared, data: bytes, raw_name: str, user, origin: str, writt
         bias_min_v=float(bias.min()),
         bias_max_v=float(bias.max()),
         bias_negated=bool(prep.parsed.bias_negated),
-        temperature_c=float(meta.get("temperature_c", 25.0)),
+        temperature_c=_temperature(meta.get("temperature_c")),
         illumination=_illumination(meta.get("illumination")),
         test_frequency_hz=meta.get("test_frequency_hz") or prep.fixture.test_frequency_hz,
         test_level_v=meta.get("test_level_v") or prep.fixture.test_level_v,

@@ -76,8 +76,8 @@ def fixture_detail(request, pk):
         rows.append(
             {
                 "cal": cal,
-                "l_sigma": math.sqrt(max(cov[0][0], 0.0)),
-                "c_sigma": math.sqrt(max(cov[1][1], 0.0)),
+                "l_sigma": math.sqrt(max(cov[0][0], 0.0)) if cov else None,
+                "c_sigma": math.sqrt(max(cov[1][1], 0.0)) if cov else None,
                 "open_hz": 1 / (2 * math.pi * math.sqrt(cal.inductance_h * cal.stray_f)) if cal.stray_f > 0 else None,
                 "readings": list(zip(cal.ref_capacitance_f, cal.freq_hz, cal.residuals or [None] * len(cal.freq_hz), strict=False)),
             }
