@@ -26,6 +26,7 @@ from labdb.physics.tuning import (
     bias_for_frequency,
     capacitance_ratio,
     fixed_capacitance_to_centre,
+    tank_capacitance,
     tank_frequency,
     tuning_slope,
 )
@@ -52,6 +53,7 @@ __all__ = [
     "mott_schottky",
     "params_of",
     "relative_capacitance",
+    "tank_capacitance",
     "tank_frequency",
     "tuning_slope",
 ]

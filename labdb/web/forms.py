@@ -36,7 +36,9 @@ class UploadForm(forms.Form):
         help_text="Leave empty to use the part named in each file.",
     )
     new_part_number = forms.CharField(max_length=80, required=False, label="…or a new part number")
-    new_part_kind = forms.ChoiceField(choices=PartKind.choices, required=False, label="New part kind")
+    new_part_kind = forms.ChoiceField(
+        choices=[("", "—")] + list(PartKind.choices), required=False, label="New part kind"
+    )
     new_part_rated_reverse_v = forms.FloatField(
         required=False, min_value=0.01, label="New part rated reverse voltage (V)"
     )
