@@ -1,0 +1,127 @@
+"""Query filters (django-filter) for the list endpoints; numbers in SI, biases reverse-positive."""
+
+from __future__ import annotations
+
+from django import forms
+from django_filters import rest_framework as filters
+
+from labdb.catalog.models import Lot, Part, PartKind, Unit
+from labdb.measurements.models import (
+    Calibration,
+    Fit,
+    Fixture,
+    FixtureKind,
+    Illumination,
+    Sweep,
+    SweepKind,
+)
+
+# Ids beyond a signed 64-bit integer cannot exist; refusing them keeps the database driver
+# from ever seeing an out-of-range number.
+_ID_LIMITS = {"min_value": 1, "max_value": 2**63 - 1}
+
+
+class IdFilter(filters.NumberFilter):
+    field_class = forms.IntegerField
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **{**_ID_LIMITS, **kwargs})
+
+
+class FiniteNumberFilter(filters.NumberFilter):
+    """A decimal number within ±1e12 (plenty for volts and degrees Celsius)."""
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **{"min_value": -1e12, "max_value": 1e12, **kwargs})
+
+
+class PartFilter(filters.FilterSet):
+    part_number = filters.CharFilter(lookup_expr="icontains", help_text="part of the number")
+    kind = filters.ChoiceFilter(choices=PartKind.choices)
+    manufacturer = filters.CharFilter(lookup_expr="icontains")
+    archived = filters.BooleanFilter()
+
+    class Meta:
+        model = Part
+        fields = ["part_number", "kind", "manufacturer", "archived"]
+
+
+class LotFilter(filters.FilterSet):
+    part = filters.CharFilter(field_name="part__part_number", help_text="part number")
+    code = filters.CharFilter()
+    received_after = filters.DateFilter(field_name="received_on", lookup_expr="gte")
+    received_before = filters.DateFilter(field_name="received_on", lookup_expr="lte")
+    archived = filters.BooleanFilter()
+
+    class Meta:
+        model = Lot
+        fields = ["part", "code", "received_after", "received_before", "archived"]
+
+
+class UnitFilter(filters.FilterSet):
+    lot = IdFilter(field_name="lot_id", help_text="lot id")
+    part = filters.CharFilter(field_name="lot__part__part_number", help_text="part number")
+    label = filters.CharFilter()
+    archived = filters.BooleanFilter()
+
+    class Meta:
+        model = Unit
+        fields = ["lot", "part", "label", "archived"]
+
+
+class FixtureFilter(filters.FilterSet):
+    name = filters.CharFilter(lookup_expr="icontains")
+    kind = filters.ChoiceFilter(choices=FixtureKind.choices)
+    archived = filters.BooleanFilter()
+
+    class Meta:
+        model = Fixture
+        fields = ["name", "kind", "archived"]
+
+
+class CalibrationFilter(filters.FilterSet):
+    fixture = IdFilter(field_name="fixture_id", help_text="fixture id")
+    measured_after = filters.IsoDateTimeFilter(field_name="measured_at", lookup_expr="gte")
+    measured_before = filters.IsoDateTimeFilter(field_name="measured_at", lookup_expr="lte")
+
+    class Meta:
+        model = Calibration
+        fields = ["fixture", "measured_after", "measured_before"]
+
+
+class SweepFilter(filters.FilterSet):
+    part = filters.CharFilter(field_name="unit__lot__part__part_number", help_text="part number")
+    lot = IdFilter(field_name="unit__lot_id", help_text="lot id")
+    unit = IdFilter(field_name="unit_id", help_text="unit id")
+    fixture = IdFilter(field_name="fixture_id", help_text="fixture id")
+    kind = filters.ChoiceFilter(choices=SweepKind.choices)
+    illumination = filters.ChoiceFilter(choices=Illumination.choices)
+    temperature_min = FiniteNumberFilter(field_name="temperature_c", lookup_expr="gte")
+    temperature_max = FiniteNumberFilter(field_name="temperature_c", lookup_expr="lte")
+    measured_after = filters.IsoDateTimeFilter(field_name="measured_at", lookup_expr="gte")
+    measured_before = filters.IsoDateTimeFilter(field_name="measured_at", lookup_expr="lte")
+    archived = filters.BooleanFilter()
+
+    class Meta:
+        model = Sweep
+        fields = [
+            "part",
+            "lot",
+            "unit",
+            "fixture",
+            "kind",
+            "illumination",
+            "temperature_min",
+            "temperature_max",
+            "measured_after",
+            "measured_before",
+            "archived",
+        ]
+
+
+class FitVersionFilter(filters.FilterSet):
+    version = IdFilter(help_text="only this version")
+
+    class Meta:
+        model = Fit
+        fields = ["version"]

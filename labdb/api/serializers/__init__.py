@@ -1,0 +1,1 @@
+"""Serializers, one module per resource (mirrored by ``labdb.api.views``)."""
