@@ -56,14 +56,14 @@ def model_jac(x, bias, a, sw, fc=DEFAULT_FC, jac=True):
     lb = np.log(base)
     pw = np.exp(-m * lb)
     pa = pw * a
-    r = cjo * pa - sw
+    cpa = cjo * pa
+    r = cpa - sw
     if x.shape[1] == 4:
         r += x[:, 3:4] * a
     if not jac:
         return r, None
     Jt = np.empty((x.shape[0], x.shape[1], bias.shape[1]))
     Jt[:, 0] = pa
-    cpa = cjo * pa
     np.multiply(cpa, (m / vj) * (1.0 - 1.0 / base), out=Jt[:, 1])  # u/(1+u) = 1 − 1/base
     np.multiply(cpa, -lb, out=Jt[:, 2])
     if x.shape[1] == 4:
@@ -180,19 +180,20 @@ def start_candidates(model, bias, cn, w, fc=DEFAULT_FC):
     if model == "junction":
         cand, cost = _fixed_cp_starts(bias, np.log(cn), w, fc)
     else:
-        cmin = np.where(w > 0, cn, np.inf).min(axis=1)
-        parts, costs = [], []
-        for f in CP_FRACTIONS:
-            cp = f * cmin
-            cj = cn - cp[:, None]
-            # Weight (C − CP)²/C² makes log(C − CP) residuals comparable to relative ones.
-            wf = w * (cj / cn) ** 2
-            c, k = _fixed_cp_starts(bias, np.log(cj), wf, fc)
-            parts.append(
-                np.concatenate([c, np.broadcast_to(cp[:, None, None], c.shape[:2] + (1,))], -1)
-            )
-            costs.append(k)
-        cand, cost = np.concatenate(parts, 1), np.concatenate(costs, 1)
+        # Every CP level is one more row of the same linearised problem, solved in one go.
+        b, n = cn.shape
+        nf = len(CP_FRACTIONS)
+        cp = np.array(CP_FRACTIONS) * np.where(w > 0, cn, np.inf).min(axis=1)[:, None]
+        cj = cn[:, None, :] - cp[:, :, None]  # (b, F, n), positive since CP < min C
+        # Weight (C − CP)²/C² makes log(C − CP) residuals comparable to relative ones.
+        wf = w[:, None, :] * (cj / cn[:, None, :]) ** 2
+        c, k = _fixed_cp_starts(
+            np.repeat(bias, nf, axis=0), np.log(cj).reshape(b * nf, n), wf.reshape(b * nf, n), fc
+        )
+        kk = c.shape[1]
+        cp_col = np.broadcast_to(cp[:, :, None, None], (b, nf, kk, 1))
+        cand = np.concatenate([c.reshape(b, nf, kk, 3), cp_col], -1).reshape(b, nf * kk, 4)
+        cost = k.reshape(b, nf * kk)
     order = np.argsort(cost, axis=1, kind="stable")
     lo, hi = bounds(model)
     return np.clip(np.take_along_axis(cand, order[..., None], 1), lo, hi)
@@ -204,7 +205,9 @@ def spearman(bias, c, mask):
     bias [V], c [F] and mask have shape (b, n); ties get average ranks. NaN when C or the
     bias is constant.
     """
-    rb, rc = _avg_ranks(bias, mask), _avg_ranks(c, mask)
+    b = bias.shape[0]
+    ranks = _avg_ranks(np.concatenate([bias, c]), np.concatenate([mask, mask]))
+    rb, rc = ranks[:b], ranks[b:]
     wm = mask.astype(float)
     n = wm.sum(1, keepdims=True)
     db = (rb - (wm * rb).sum(1, keepdims=True) / n) * wm

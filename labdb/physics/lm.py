@@ -41,7 +41,7 @@ class LMResult:
     status : ndarray of int, shape (b,)
         Stop reason, a key of :data:`STATUS_TEXT`; > 0 means converged.
     n_iter : ndarray of int, shape (b,)
-        Iterations used (each is one residual-and-Jacobian evaluation).
+        Residual-and-Jacobian evaluations after the one at the start.
     """
 
     x: np.ndarray
@@ -87,10 +87,10 @@ def lm_solve(
     lower, upper : array_like, shape (p,) or (b, p), optional
         Bounds; starts are clipped into them.
     xtol : float
-        Stop when the step is below ``xtol·(‖x‖ + xtol)``.
+        Stop when the next step is below ``xtol·(‖x‖ + xtol)``.
     ftol : float
-        Stop when a step is predicted (and, if accepted, found) to lower the sum of squares
-        by less than ``ftol`` of it.
+        Stop when the next step is predicted to lower the sum of squares by less than
+        ``ftol`` of it.
     gtol : float
         Stop when max_j |(Jᵀr)_j| / (‖J_j‖·‖r‖) over free parameters is below ``gtol``.
     max_iter : int
@@ -122,23 +122,16 @@ def lm_solve(
         act = np.flatnonzero(~done)
         if act.size == 0:
             break
-        Da = np.where(D[act] > 0, D[act], 1.0)
-        fixed = ((x[act] <= lo[act]) & (g[act] > 0)) | ((x[act] >= hi[act]) & (g[act] < 0))
-        # Scale-free gradient test (MINPACK's gtol) over the free parameters.
-        gcos = np.abs(g[act]) / np.sqrt(Da * ssr[act, None])
-        g_ok = np.where(fixed, 0.0, gcos).max(1) <= gtol
-        status[act[g_ok]] = 3
-        done[act[g_ok]] = True
-        keep = ~g_ok
-        act, Da, fixed = act[keep], Da[keep], fixed[keep]
-        if act.size == 0:
-            break
-        n_iter[act] += 1
         xa, Aa, ga, ssr_a = x[act], A[act], g[act], ssr[act]
         lo_a, hi_a = lo[act], hi[act]
+        Da = np.where(D[act] > 0, D[act], 1.0)
+        fixed = ((xa <= lo_a) & (ga > 0)) | ((xa >= hi_a) & (ga < 0))
         free = ~fixed
         M = Aa + (mu[act, None] * Da)[:, :, None] * eye
-        delta = _reduced_step(M, ga, free, np.zeros_like(ga))
+        if fixed.any():
+            delta = _reduced_step(M, ga, free, np.zeros_like(ga))
+        else:
+            delta = np.linalg.solve(M, -ga[:, :, None])[:, :, 0]
         hit = free & ((xa + delta < lo_a) | (xa + delta > hi_a))
         if hit.any():
             # Parameters the step pushes through a bound stop on it; the others are solved
@@ -148,21 +141,40 @@ def lm_solve(
         xt = np.clip(xa + delta, lo_a, hi_a)
         dc = xt - xa
         clipped = (xt != xa + delta).any(1)
+        pred = -(np.einsum("bi,bi->b", ga, dc) + 0.5 * np.einsum("bi,bij,bj->b", dc, Aa, dc))
+
+        # Tests that need no new residuals: the gradient is orthogonal to the residuals
+        # (MINPACK's scale-free gtol, free parameters only); the quadratic model promises less
+        # than ftol of the sum of squares; or the step is below xtol. In the last two the
+        # step is so small that the quadratic model is exact to rounding, so it is taken
+        # without evaluating the residuals again (one evaluation saved per problem).
+        gcos = np.abs(ga) / np.sqrt(Da * ssr_a[:, None])
+        g_ok = np.where(fixed, 0.0, gcos).max(1) <= gtol
+        small_f = (pred <= 0.5 * ftol * ssr_a) & ~clipped
+        small_step = np.sqrt((dc * dc).sum(1)) <= xtol * (np.sqrt((xt * xt).sum(1)) + xtol)
+        stop = np.select([g_ok, small_f, small_step], [3, 2, 1], 0)
+        if stop.any():
+            final = (stop == 1) | (stop == 2)
+            final &= pred >= 0
+            x[act[final]] = xt[final]
+            ssr[act[final]] -= 2.0 * pred[final]
+            status[act[stop != 0]] = stop[stop != 0]
+            done[act[stop != 0]] = True
+            go = stop == 0
+            act, xt, ssr_a, pred = act[go], xt[go], ssr_a[go], pred[go]
+            if act.size == 0:
+                continue
+        n_iter[act] += 1
         rt, Jt = fun(xt, act)
         ssr_t = np.einsum("bn,bn->b", rt, rt)
-        pred = -(np.einsum("bi,bi->b", ga, dc) + 0.5 * np.einsum("bi,bij,bj->b", dc, Aa, dc))
         actual = 0.5 * (ssr_a - ssr_t)
         accept = np.isfinite(ssr_t) & (actual > 0)
-        small_step = np.sqrt((dc * dc).sum(1)) <= xtol * (np.sqrt((xt * xt).sum(1)) + xtol)
-        # The quadratic model promises (and the step gives) no more than ftol of the sum of
-        # squares: further steps only chase rounding, accepted or not.
-        f_lim = 0.5 * ftol * ssr_a
-        small_f = (pred <= f_lim) & (~accept | (actual <= f_lim)) & ~clipped
 
         ok = act[accept]
         rho = actual[accept] / np.where(pred[accept] > 0, pred[accept], np.inf)
         x[ok], ssr[ok] = xt[accept], ssr_t[accept]
-        At, gt = _normal(rt[accept], Jt[accept])
+        all_ok = bool(accept.all())  # the usual case near convergence: skip the copies
+        At, gt = _normal(rt, Jt) if all_ok else _normal(rt[accept], Jt[accept])
         A[ok], g[ok] = At, gt
         D[ok] = np.maximum(D[ok], np.diagonal(At, axis1=1, axis2=2))
         mu[ok] *= np.maximum(1.0 / 3.0, 1.0 - (2.0 * rho - 1.0) ** 3)
@@ -171,11 +183,7 @@ def lm_solve(
         mu[bad] *= nu[bad]
         nu[bad] *= 2.0
 
-        new_status = np.select(
-            [accept & (ssr_t == 0), small_f, small_step, mu[act] > 1e30],
-            [4, 2, 1, -1],
-            0,
-        )
+        new_status = np.select([accept & (ssr_t == 0), mu[act] > 1e30], [4, -1], 0)
         status[act] = new_status
         done[act] = new_status != 0
     return LMResult(x=x, ssr=ssr, status=status, n_iter=n_iter)
