@@ -331,8 +331,8 @@ def build_fits(name, x, converged, messages, stats, rho, bias_range, loss, notes
     texts = msgs if notes is None else [f"{m}; {notes[i]}" for m, i in zip(msgs, ids, strict=True)]
     rows = zip(
         repeat(name),
-        [dict(zip(keys, p, strict=True)) for p in lists["params"]],
-        [dict(zip(keys, p, strict=True)) for p in lists["stderr"]],
+        _dicts(keys, lists["params"]),
+        _dicts(keys, lists["stderr"]),
         lists["corr"],
         lists["rms_rel"],
         lists["r2"],
@@ -349,9 +349,18 @@ def build_fits(name, x, converged, messages, stats, rho, bias_range, loss, notes
     # The frozen __init__ costs ~10 µs per object, a lot for 10⁵ sweeps; these fields are
     # complete and typed (order of _FIELDS), so the instance dict is filled directly.
     out = []
-    new = object.__new__
+    new, append = object.__new__, out.append
     for row in rows:
         fit = new(JunctionFit)
-        fit.__dict__.update(zip(_FIELDS, row, strict=True))
-        out.append(fit)
+        fit.__dict__.update(zip(_FIELDS, row, strict=False))  # rows have len(_FIELDS) items
+        append(fit)
     return out
+
+
+def _dicts(keys, rows):
+    """One dict per row of values (rows of 3 or 4 floats), built as literals for speed."""
+    if len(keys) == 3:
+        a, b, c = keys
+        return [{a: x, b: y, c: z} for x, y, z in rows]
+    a, b, c, d = keys
+    return [{a: x, b: y, c: z, d: u} for x, y, z, u in rows]
