@@ -53,3 +53,13 @@ def test_writes_beyond_the_write_rate_get_429_and_reads_go_on(rates, client_for,
     ]
     assert codes == [201, 201, 429]
     assert client.get("/api/v1/units/").status_code == 200
+
+
+def test_a_forged_forwarded_for_header_does_not_escape_the_block(rates, db):
+    # API_NUM_PROXIES=0 (no proxy): the peer address counts, X-Forwarded-For is ignored.
+    rates(failed_auth="2/min")
+    bad = APIClient()
+    bad.credentials(HTTP_AUTHORIZATION="Token wrong-key")
+    for i in range(2):
+        bad.get("/api/v1/parts/", HTTP_X_FORWARDED_FOR=f"10.0.0.{i}")
+    assert bad.get("/api/v1/parts/", HTTP_X_FORWARDED_FOR="10.9.9.9").status_code == 429
