@@ -9,7 +9,7 @@ from __future__ import annotations
 from django.urls import URLPattern, URLResolver, path, re_path
 from rest_framework.routers import DefaultRouter
 
-from labdb.api.views import calibrations, fits, fixtures, lots, meta, parts, sweeps, units
+from labdb.api.views import calibrations, fits, fixtures, jobs, lots, meta, parts, sweeps, units
 
 app_name = "api"
 
@@ -36,6 +36,7 @@ urlpatterns = [
     path("fits/<int:pk>/spice", fits.FitSpiceView.as_view(), name="fit-spice"),
     path("lots/<int:pk>/spice", lots.LotSpiceView.as_view(), name="lot-spice"),
     path("lots/<int:pk>/summary", lots.LotSummaryView.as_view(), name="lot-summary"),
+    path("jobs/<int:pk>/", jobs.JobDetailView.as_view(), name="job-detail"),
     *router.urls,
     re_path(r"^.*$", meta.NoEndpointView.as_view(), name="no-endpoint"),
 ]

@@ -14,7 +14,7 @@ DEPLOY = ROOT / "deploy"
 def _read_vars() -> set[str]:
     """Every variable settings.py reads through its env_* helpers."""
     text = (ROOT / "labdb" / "settings.py").read_text()
-    return set(re.findall(r'env_(?:str|bool|int|list)\(\s*"([A-Z0-9_]+)"', text))
+    return set(re.findall(r'env_(?:str|bool|int|float|list)\(\s*"([A-Z0-9_]+)"', text))
 
 
 def _example() -> dict[str, str]:

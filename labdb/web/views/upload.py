@@ -8,12 +8,14 @@ from pathlib import Path
 
 import numpy as np
 from django.conf import settings
+from django.contrib import messages
 from django.db import transaction
-from django.shortcuts import render
+from django.shortcuts import redirect, render
 
 from labdb.accounts.decorators import role_required
 from labdb.accounts.roles import MEMBER
 from labdb.catalog.models import Part
+from labdb.jobs.services import broker_configured, submit_archive_import
 from labdb.measurements.services import SweepContext, preview_file, record_file
 from labdb.web import charts
 from labdb.web.forms import UploadForm
@@ -133,15 +135,23 @@ def upload(request):
         return render(request, "web/upload.html",
                       {"form": UploadForm(bound), "preview": rows, "staged": token})
 
-    outcomes = []
+    outcomes, jobs = [], []
     with transaction.atomic():
         _ensure_new_part(data, request.user)
         for name, blob in files:
-            outcomes += record_file(blob, name, ctx, user=request.user, origin="upload")
-        if not any(o.status == "stored" for o in outcomes):
+            if broker_configured() and name.lower().endswith(".zip"):
+                # With workers, an archive imports in the background; its job page shows progress.
+                jobs.append(submit_archive_import(blob, name, ctx, user=request.user))
+            else:
+                outcomes += record_file(blob, name, ctx, user=request.user, origin="upload")
+        if not jobs and not any(o.status == "stored" for o in outcomes):
             transaction.set_rollback(True)
     if token:
         _drop_stage(request, token)
+    if jobs and not outcomes:
+        return redirect(jobs[0] if len(jobs) == 1 else "job-list")
+    for job in jobs:
+        messages.info(request, f"{job.filename} is importing in the background: job #{job.pk}")
     counts = {s: sum(o.status == s for o in outcomes) for s in ("stored", "duplicate", "rejected")}
     status = 200 if counts["rejected"] == 0 else 400 if counts["stored"] == 0 and counts["duplicate"] == 0 else 200
     return render(request, "web/upload_result.html", {"outcomes": outcomes, "counts": counts}, status=status)
