@@ -35,6 +35,7 @@ from typing import Any
 from labdb.ingest.delimited import read_delimited
 from labdb.ingest.errors import Issue, IssueList, ParseError
 from labdb.ingest.files import ARCHIVE_EXTENSIONS, extension, parse_file
+from labdb.ingest.impedance import ParsedImpedance, is_impedance_file, parse_impedance_file
 from labdb.ingest.metadata import normalize_metadata, squash_key
 from labdb.ingest.sweep import ParsedSweep
 
@@ -111,6 +112,7 @@ class ArchiveEntry:
     manifest: dict[str, Any] | None = None
     sweeps: list[ParsedSweep] = field(default_factory=list)
     error: ParseError | None = None
+    impedance: ParsedImpedance | None = None  # set instead of sweeps for an impedance sweep
 
 
 def _unsafe(name: str) -> bool:
@@ -325,7 +327,10 @@ def _entry(reader: _Reader, info: zipfile.ZipInfo, manifest: dict | None) -> Arc
     if _nested(name, entry.data):
         return fail("archives inside the archive are not read; unpack it first")
     try:
-        entry.sweeps = parse_file(entry.data, name)
+        if is_impedance_file(entry.data, name):
+            entry.impedance = parse_impedance_file(entry.data, name)
+        else:
+            entry.sweeps = parse_file(entry.data, name)
     except ParseError as exc:
         entry.error = exc
     return entry

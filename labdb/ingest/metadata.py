@@ -12,7 +12,7 @@ Normalised values:
 * ``measured_at`` timezone-aware datetime from ISO 8601. A date alone means midnight; a
   value without a zone is taken as **UTC** (the bench clock's zone is unknown to us).
 * ``test_frequency_hz`` in Hz (``1 MHz``) and ``test_level_v`` in V (``50 mV``, ``50 mVrms``).
-* ``kind`` ``cv`` or ``fv``; the other keys are stripped strings.
+* ``kind`` ``cv``, ``fv`` or ``zf``; the other keys are stripped strings.
 """
 
 from __future__ import annotations
@@ -172,13 +172,16 @@ def measured_at(value: str | datetime | date) -> datetime:
 
 
 def sweep_kind(text: str) -> str:
-    """``cv`` or ``fv`` from ``cv``, ``C-V``, ``C–V``, ``f-V``, ``capacitance``, ``frequency``."""
+    """``cv``, ``fv`` or ``zf`` from ``cv``, ``C–V``, ``f-V``, ``capacitance``, ``frequency``,
+    ``zf``, ``Z–f`` or ``impedance`` (an impedance sweep over test frequency at one bias)."""
     s = re.sub(r"[^a-z]", "", str(text).lower())
     if s in ("cv", "capacitance", "capacitancesweep"):
         return "cv"
     if s in ("fv", "frequency", "frequencysweep"):
         return "fv"
-    raise ValueError(f"'{str(text).strip()}' is not a sweep kind (use cv or fv)")
+    if s in ("zf", "impedance", "impedancesweep"):
+        return "zf"
+    raise ValueError(f"'{str(text).strip()}' is not a sweep kind (use cv, fv or zf)")
 
 
 def _clean(field: str, value: Any, decimal_comma: bool) -> Any:

@@ -95,6 +95,7 @@ class Calibration(models.Model):
 class SweepKind(models.TextChoices):
     CV = "cv", "C–V (capacitance against bias)"
     FV = "fv", "f–V (oscillator frequency against bias)"
+    ZF = "zf", "Z–f (impedance against test frequency, at one bias)"
 
 
 class Illumination(models.TextChoices):
@@ -148,11 +149,17 @@ class Sweep(models.Model):
     current_fit = models.ForeignKey(
         "Fit", null=True, blank=True, on_delete=models.SET_NULL, related_name="+"
     )
+    # A C–V sweep derived from a bias series of impedance sweeps links to them here.
+    derived_from = models.ManyToManyField(
+        "self", symmetrical=False, blank=True, related_name="derivatives"
+    )
 
     class Meta:
         ordering = ["-uploaded_at", "-id"]
         constraints = [
-            models.UniqueConstraint(fields=["unit", "raw_sha256"], name="sweep_raw_unique_per_unit"),
+            models.UniqueConstraint(
+                fields=["unit", "raw_sha256"], name="sweep_raw_unique_per_unit"
+            ),
             models.CheckConstraint(
                 condition=Q(temperature_c__gte=-273.15) & Q(temperature_c__lte=500),
                 name="sweep_temperature_physical",
@@ -254,7 +261,9 @@ class Fit(models.Model):
         ]
 
     def __str__(self) -> str:
-        subject = f"sweep {self.sweep_id}" if self.sweep_id else f"lot summary {self.lot_summary_id}"
+        subject = (
+            f"sweep {self.sweep_id}" if self.sweep_id else f"lot summary {self.lot_summary_id}"
+        )
         return f"fit v{self.version} of {subject}"
 
     def save(self, *args, **kwargs):
@@ -264,3 +273,75 @@ class Fit(models.Model):
 
     def get_absolute_url(self) -> str:
         return reverse("fit-detail", args=[self.pk])
+
+
+class ImpedanceFit(models.Model):
+    """An immutable, numbered version of the series R–L–C equivalent of an impedance sweep."""
+
+    sweep = models.ForeignKey(Sweep, on_delete=models.PROTECT, related_name="impedance_fits")
+    version = models.PositiveIntegerField()
+    rs_ohm = models.FloatField(help_text="Series resistance [ohm].")
+    ls_h = models.FloatField(help_text="Series inductance [H].")
+    cs_f = models.FloatField(help_text="Series capacitance [F].")
+    srf_hz = models.FloatField(null=True, help_text="Self-resonant frequency [Hz]; null if Ls = 0.")
+    stderr = models.JSONField(help_text="Standard errors of rs_ohm, ls_h, cs_f (SI).")
+    correlation = models.JSONField()
+    rms_rel = models.FloatField()
+    n_points = models.PositiveIntegerField()
+    frequency_min_hz = models.FloatField()
+    frequency_max_hz = models.FloatField()
+    converged = models.BooleanField()
+    message = models.CharField(max_length=300, blank=True)
+    warnings = models.JSONField(default=list)
+    fitter_version = models.CharField(max_length=40)
+    input_sha256 = models.CharField(max_length=64)
+    origin = models.CharField(max_length=12, choices=FitOrigin.choices)
+    created_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.SET_NULL, related_name="+"
+    )
+    created_at = models.DateTimeField(auto_now_add=True)
+
+    class Meta:
+        ordering = ["-version"]
+        constraints = [
+            models.UniqueConstraint(
+                fields=["sweep", "version"], name="impedance_fit_version_unique_per_sweep"
+            ),
+            models.CheckConstraint(
+                condition=Q(version__gte=1), name="impedance_fit_version_from_one"
+            ),
+            models.CheckConstraint(
+                condition=Q(rs_ohm__gte=0) & Q(ls_h__gte=0) & Q(cs_f__gt=0),
+                name="impedance_fit_params_physical",
+            ),
+        ]
+
+    def __str__(self) -> str:
+        return f"impedance fit v{self.version} of sweep {self.sweep_id}"
+
+    def save(self, *args, **kwargs):
+        if self.pk is not None and not self._state.adding:
+            raise ImmutableError("a fit version is never changed; refit to write a new version")
+        super().save(*args, **kwargs)
+
+    def as_physics(self):
+        """The stored fit as :class:`labdb.physics.impedance.SeriesRLCFit`."""
+        from labdb.physics.impedance import SeriesRLCFit
+
+        return SeriesRLCFit.from_dict(
+            {
+                "rs_ohm": self.rs_ohm,
+                "ls_h": self.ls_h,
+                "cs_f": self.cs_f,
+                "stderr": self.stderr,
+                "correlation": self.correlation,
+                "rms_rel": self.rms_rel,
+                "n_points": self.n_points,
+                "frequency_min_hz": self.frequency_min_hz,
+                "frequency_max_hz": self.frequency_max_hz,
+                "converged": self.converged,
+                "message": self.message,
+                "warnings": self.warnings,
+                "fitter_version": self.fitter_version,
+            }
+        )

@@ -12,7 +12,7 @@ from django.db import transaction
 from django.db.models import Max
 
 from labdb.measurements.errors import Problem, Rejected
-from labdb.measurements.models import Fit, Sweep
+from labdb.measurements.models import Fit, Sweep, SweepKind
 from labdb.physics import FITTER_VERSION, JunctionFit, PhysicsInputError, fit_junction
 
 MODEL_CHOICES = ("auto", "junction", "junction+cp")
@@ -44,7 +44,14 @@ def run_fit(bias_v, capacitance_f, model_choice: str) -> JunctionFit:
 
 
 def store_fit(
-    result: JunctionFit, *, sweep=None, lot_summary=None, version: int, in_sha: str, origin: str, user=None
+    result: JunctionFit,
+    *,
+    sweep=None,
+    lot_summary=None,
+    version: int,
+    in_sha: str,
+    origin: str,
+    user=None,
 ) -> Fit:
     p = result.params
     return Fit.objects.create(
@@ -87,6 +94,8 @@ def fit_sweep(
     Runs inside the caller's transaction when there is one; the sweep row is locked so two
     refits of one sweep never write the same version number.
     """
+    if sweep.kind == SweepKind.ZF:
+        raise Rejected(Problem(f"sweep {sweep.pk} is an impedance sweep: it has no junction fit"))
     with transaction.atomic():
         locked = Sweep.objects.select_for_update().get(pk=sweep.pk)
         pts = locked.points
@@ -125,7 +134,12 @@ class RefitSummary:
 
 
 def refit_sweeps(
-    sweep_ids: Iterable[int], *, model: str = "auto", user=None, origin: str = "refit", progress=None
+    sweep_ids: Iterable[int],
+    *,
+    model: str = "auto",
+    user=None,
+    origin: str = "refit",
+    progress=None,
 ) -> RefitSummary:
     """Refit the given sweeps; each in its own transaction, so one failure loses nothing else."""
     from labdb.quality.hooks import lots_changed
@@ -135,7 +149,12 @@ def refit_sweeps(
     for sweep in Sweep.objects.filter(pk__in=list(sweep_ids)).select_related("unit", "current_fit"):
         summary.examined += 1
         try:
-            fit = fit_sweep(sweep, model=model, origin=origin, user=user)
+            if sweep.kind == SweepKind.ZF:  # impedance sweeps refit their R–L–C equivalent
+                from labdb.measurements.services.impedance import fit_impedance_sweep
+
+                fit = fit_impedance_sweep(sweep, origin=origin, user=user)
+            else:
+                fit = fit_sweep(sweep, model=model, origin=origin, user=user)
         except Rejected as exc:
             summary.failed.append((sweep.pk, str(exc)))
             continue

@@ -18,7 +18,8 @@ from django.db import IntegrityError, transaction
 from django.utils import timezone
 
 from labdb.catalog.models import Lot, Part, Unit
-from labdb.ingest import ParseError, ParsedSweep, merge_metadata, parse_file, sweep_from_arrays
+from labdb.ingest import ParsedSweep, ParseError, merge_metadata, parse_file, sweep_from_arrays
+from labdb.ingest.impedance import is_impedance_file
 from labdb.measurements.errors import Problem, Rejected
 from labdb.measurements.models import Fit, Fixture, FixtureKind, Illumination, Sweep
 from labdb.measurements.services.calibration import as_physics, calibration_in_force
@@ -50,9 +51,10 @@ class SweepContext:
     test_frequency_hz: float | None = None
     test_level_v: float | None = None
     model: str = "auto"
+    bias_v: float | None = None  # reverse bias of an impedance sweep [V]
 
     def as_meta(self) -> dict:
-        skip = {"model"}
+        skip = {"model", "bias_v"}
         return {
             f.name: getattr(self, f.name)
             for f in fields(self)
@@ -112,6 +114,29 @@ def _required(meta: dict, key: str, source: str) -> str:
     return str(value).strip()
 
 
+def resolve_subject(meta: dict, source: str) -> tuple[Part, str, str, Fixture]:
+    """Part, lot code, unit label and fixture named by merged metadata (Rejected if unknown)."""
+    part_no = _required(meta, "part", source)
+    part = Part.objects.filter(part_number=part_no).first()
+    if part is None:
+        raise Rejected(
+            Problem(
+                f"part '{part_no}' is not in the catalogue; add it first", file=source, field="part"
+            )
+        )
+    lot_code = _required(meta, "lot", source)
+    unit_label = _required(meta, "unit", source)
+    fixture_name = _required(meta, "fixture", source)
+    fixture = Fixture.objects.filter(name=fixture_name).first()
+    if fixture is None:
+        raise Rejected(
+            Problem(
+                f"fixture '{fixture_name}' is not known; add it first", file=source, field="fixture"
+            )
+        )
+    return part, lot_code, unit_label, fixture
+
+
 def _prepare(parsed: ParsedSweep, ctx: SweepContext, source: str) -> _Prepared:
     outer = ctx.as_meta()
     if parsed.unit_label:
@@ -123,20 +148,7 @@ def _prepare(parsed: ParsedSweep, ctx: SweepContext, source: str) -> _Prepared:
     if meta.get("temperature_c") in (None, ""):
         notes.append("no temperature given: assumed 25 °C")
 
-    part_no = _required(meta, "part", source)
-    part = Part.objects.filter(part_number=part_no).first()
-    if part is None:
-        raise Rejected(
-            Problem(f"part '{part_no}' is not in the catalogue; add it first", file=source, field="part")
-        )
-    lot_code = _required(meta, "lot", source)
-    unit_label = _required(meta, "unit", source)
-    fixture_name = _required(meta, "fixture", source)
-    fixture = Fixture.objects.filter(name=fixture_name).first()
-    if fixture is None:
-        raise Rejected(
-            Problem(f"fixture '{fixture_name}' is not known; add it first", file=source, field="fixture")
-        )
+    part, lot_code, unit_label, fixture = resolve_subject(meta, source)
     if ctx.kind and ctx.kind != parsed.kind:
         raise Rejected(
             Problem(
@@ -216,24 +228,43 @@ def _illumination(value) -> str:
     return value
 
 
-def _store(prep: _Prepared, data: bytes, raw_name: str, user, origin: str, written: list[str]):
-    """Write one prepared sweep; returns (status, sweep, fit, notes). Inside a transaction."""
-    notes = list(prep.notes)
-    lot, created = Lot.objects.get_or_create(part=prep.part, code=prep.lot_code)
+def unit_for(part: Part, lot_code: str, unit_label: str, notes: list[str]) -> Unit:
+    """The unit (and its lot), created when new with a note saying so. Inside a transaction."""
+    lot, created = Lot.objects.get_or_create(part=part, code=lot_code)
     if created:
-        notes.append(f"created lot {prep.lot_code} of {prep.part.part_number}")
-    unit, created = Unit.objects.get_or_create(lot=lot, label=prep.unit_label)
+        notes.append(f"created lot {lot_code} of {part.part_number}")
+    unit, created = Unit.objects.get_or_create(lot=lot, label=unit_label)
     if created:
-        notes.append(f"created unit {prep.unit_label} in lot {prep.lot_code}")
+        notes.append(f"created unit {unit_label} in lot {lot_code}")
+    return unit
+
+
+def keep_raw(
+    unit: Unit, data: bytes, raw_name: str, written: list[str]
+) -> tuple[str, str, Sweep | None]:
+    """sha256 of the raw bytes, their storage path, and the unit's sweep already holding them.
+
+    When no sweep of ``unit`` holds these bytes they are saved (content-addressed) and the
+    path is appended to ``written`` so a rollback can remove it.
+    """
     sha = _sha256(data)
     existing = Sweep.objects.filter(unit=unit, raw_sha256=sha).first()
     if existing is not None:
-        return "duplicate", existing, existing.current_fit, notes + ["this file is already stored"]
+        return sha, existing.raw_file.name, existing
     path = f"raw/{sha[:2]}/{sha}/{_safe_name(raw_name)}"
     if not default_storage.exists(path):
-        saved = default_storage.save(path, ContentFile(data))
-        written.append(saved)
-        path = saved
+        path = default_storage.save(path, ContentFile(data))
+        written.append(path)
+    return sha, path, None
+
+
+def _store(prep: _Prepared, data: bytes, raw_name: str, user, origin: str, written: list[str]):
+    """Write one prepared sweep; returns (status, sweep, fit, notes). Inside a transaction."""
+    notes = list(prep.notes)
+    unit = unit_for(prep.part, prep.lot_code, prep.unit_label, notes)
+    sha, path, existing = keep_raw(unit, data, raw_name, written)
+    if existing is not None:
+        return "duplicate", existing, existing.current_fit, notes + ["this file is already stored"]
     meta = prep.meta
     bias = np.asarray(prep.points["bias_v"])
     sweep = Sweep.objects.create(
@@ -291,10 +322,23 @@ def _record_parsed(
         prepared = [_prepare(s, ctx, raw_name) for s in sweeps]
     except Rejected as exc:
         return [Outcome(src, "rejected", problems=exc.problems) for src in sources]
+    return store_atomically(
+        sources,
+        raw_name,
+        lambda written: [_store(p, data, raw_name, user, origin, written) for p in prepared],
+    )
+
+
+def store_atomically(sources: list[str], raw_name: str, store) -> list[Outcome]:
+    """Run ``store(written)`` in one transaction: every sweep stored, or nothing.
+
+    ``store`` returns one ``(status, sweep, fit, notes)`` per source and appends the raw
+    files it saves to ``written``; they are removed again when the transaction fails.
+    """
     written: list[str] = []
     try:
         with transaction.atomic():
-            stored = [_store(p, data, raw_name, user, origin, written) for p in prepared]
+            stored = store(written)
     except Rejected as exc:
         _discard(written)
         return [Outcome(src, "rejected", problems=exc.problems) for src in sources]
@@ -303,7 +347,11 @@ def _record_parsed(
         log.info("integrity error while recording %s: %s", raw_name, exc)
         # A concurrent upload of the same bytes for the same unit won the race.
         return [
-            Outcome(src, "rejected", problems=[Problem("stored concurrently; upload again", file=raw_name)])
+            Outcome(
+                src,
+                "rejected",
+                problems=[Problem("stored concurrently; upload again", file=raw_name)],
+            )
             for src in sources
         ]
     except BaseException:
@@ -339,6 +387,10 @@ def record_file(
     ctx = ctx or SweepContext()
     if filename.lower().endswith(ARCHIVE_SUFFIXES):
         return import_archive(data, filename, ctx, user=user, origin=origin, recompute=recompute)
+    if is_impedance_file(data, filename):
+        from labdb.measurements.services.impedance import record_impedance_file
+
+        return record_impedance_file(data, filename, ctx, user=user, origin=origin)
     try:
         sweeps = _parse(data, filename)
     except Rejected as exc:
@@ -367,7 +419,6 @@ def import_archive(
 ) -> list[Outcome]:
     """Record every member of a zip archive; manifest rows win over the files' own metadata."""
     from labdb.ingest import read_archive
-
     from labdb.measurements.services.limits import archive_limits
     from labdb.measurements.services.manifest import context_for_member
 
@@ -387,7 +438,14 @@ def import_archive(
             except Rejected as exc:
                 outcomes.append(Outcome(entry.name, "rejected", problems=exc.problems))
             else:
-                outcomes += _record_parsed(entry.sweeps, entry.data, entry.name, member_ctx, user, origin)
+                if entry.impedance is not None:
+                    from labdb.measurements.services.impedance import record_member_impedance
+
+                    outcomes += record_member_impedance(entry, member_ctx, user, origin)
+                else:
+                    outcomes += _record_parsed(
+                        entry.sweeps, entry.data, entry.name, member_ctx, user, origin
+                    )
         if progress is not None:
             progress(i, len(entries))
     if recompute:
@@ -423,6 +481,10 @@ def record_points(
 def preview_file(data: bytes, filename: str, ctx: SweepContext | None = None) -> list[Outcome]:
     """Parse, convert and fit without storing anything: what the upload page shows first."""
     ctx = ctx or SweepContext()
+    if is_impedance_file(data, filename):
+        from labdb.measurements.services.impedance import preview_impedance_file
+
+        return preview_impedance_file(data, filename, ctx)
     try:
         sweeps = _parse(data, filename)
     except Rejected as exc:
