@@ -7,6 +7,7 @@ from labdb.accounts.decorators import role_required
 from labdb.accounts.roles import VIEWER
 from labdb.catalog.models import Lot, Part, Unit
 from labdb.measurements.models import Sweep
+from labdb.web.views import impedance
 
 
 @role_required(VIEWER)
@@ -34,5 +35,8 @@ def lot_detail(request, pk):
 @role_required(VIEWER)
 def unit_detail(request, pk):
     unit = get_object_or_404(Unit.objects.select_related("lot__part"), pk=pk)
+    if request.method == "POST" and "derive" in request.POST:
+        return impedance.derive_from_unit_page(request, unit)  # C–V from a bias series
     sweeps = Sweep.objects.filter(unit=unit).select_related("fixture", "current_fit")
-    return render(request, "web/unit_detail.html", {"unit": unit, "sweeps": sweeps})
+    context = {"unit": unit, "sweeps": sweeps, **impedance.unit_impedance_context(unit)}
+    return render(request, "web/unit_detail.html", context)

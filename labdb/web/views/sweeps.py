@@ -8,14 +8,20 @@ from django.shortcuts import get_object_or_404, redirect, render
 
 from labdb.accounts.decorators import role_required
 from labdb.accounts.roles import VIEWER
-from labdb.measurements.models import Fit, Sweep
+from labdb.measurements.models import Fit, Sweep, SweepKind
 from labdb.physics import capacitance_of
 from labdb.web import charts
+from labdb.web.views import impedance
 
 
 def fit_rows(fit: Fit) -> list[dict]:
     """Parameters with standard errors in bench units, for the fit tables."""
-    scale = {"cjo": (1e12, "pF", "CJO"), "vj": (1, "V", "VJ"), "m": (1, "", "M"), "cp": (1e12, "pF", "CP")}
+    scale = {
+        "cjo": (1e12, "pF", "CJO"),
+        "vj": (1, "V", "VJ"),
+        "m": (1, "", "M"),
+        "cp": (1e12, "pF", "CP"),
+    }
     rows = []
     for key, value in fit.params.items():
         factor, unit, label = scale.get(key, (1, "", key))
@@ -46,8 +52,11 @@ def sweep_charts(sweep: Sweep, fit: Fit | None) -> tuple[dict, dict | None]:
 @role_required(VIEWER)
 def sweep_detail(request, pk):
     sweep = get_object_or_404(
-        Sweep.objects.select_related("unit__lot__part", "fixture", "calibration", "current_fit"), pk=pk
+        Sweep.objects.select_related("unit__lot__part", "fixture", "calibration", "current_fit"),
+        pk=pk,
     )
+    if sweep.kind == SweepKind.ZF:  # impedance against frequency: its own page
+        return impedance.impedance_sweep_detail(request, sweep)
     versions = list(sweep.fits.order_by("-version"))
     shown = sweep.current_fit
     wanted = request.GET.get("version")
