@@ -32,7 +32,9 @@ def demo_password() -> str:
 
 
 class Command(BaseCommand):
-    help = "Create the invented demo lab (parts, lots, fixtures, calibrations, sweeps) and demo users."
+    help = (
+        "Create the invented demo lab (parts, lots, fixtures, calibrations, sweeps) and demo users."
+    )
 
     def add_arguments(self, parser):
         parser.add_argument("--path", default=str(DEMO_DIR), help="folder holding catalog.json")
@@ -42,7 +44,9 @@ class Command(BaseCommand):
         root = Path(opts["path"])
         catalog_file = root / "catalog.json"
         if not catalog_file.exists():
-            raise CommandError(f"{catalog_file} not found; run `python fixtures/make_demo.py` first")
+            raise CommandError(
+                f"{catalog_file} not found; run `python fixtures/make_demo.py` first"
+            )
         catalog = json.loads(catalog_file.read_text(encoding="utf-8"))
         with transaction.atomic():
             self._catalog(catalog)
@@ -54,6 +58,8 @@ class Command(BaseCommand):
         )
         if stats["rejected"]:
             raise CommandError("some demo files were rejected; see above")
+        if catalog.get("impedance_dir"):
+            self._impedance(root / catalog["impedance_dir"])
         if not opts["no_users"]:
             password = demo_password()
             ensure_user("demo", CURATOR, password, staff=True)
@@ -83,16 +89,26 @@ class Command(BaseCommand):
                 code=lot["code"],
                 defaults={
                     "date_code": lot.get("date_code", ""),
-                    "received_on": date.fromisoformat(lot["received_on"]) if lot.get("received_on") else None,
+                    "received_on": date.fromisoformat(lot["received_on"])
+                    if lot.get("received_on")
+                    else None,
                     "source": lot.get("source", ""),
                 },
             )
         for f in catalog["fixtures"]:
             Fixture.objects.update_or_create(
                 name=f["name"],
-                defaults={k: f.get(k) for k in (
-                    "kind", "test_frequency_hz", "test_level_v", "nominal_inductance_h", "coupling_f"
-                )} | {"description": f.get("description", "")},
+                defaults={
+                    k: f.get(k)
+                    for k in (
+                        "kind",
+                        "test_frequency_hz",
+                        "test_level_v",
+                        "nominal_inductance_h",
+                        "coupling_f",
+                    )
+                }
+                | {"description": f.get("description", "")},
             )
 
     def _calibrations(self, root: Path, catalog: dict) -> None:
@@ -107,9 +123,41 @@ class Command(BaseCommand):
             except ParseError as exc:
                 raise CommandError(f"{path}: {exc}") from None
             record_calibration(
-                fixture, at, list(parsed.ref_capacitance_f), list(parsed.freq_hz),
+                fixture,
+                at,
+                list(parsed.ref_capacitance_f),
+                list(parsed.freq_hz),
                 notes="invented demo data",
             )
+
+    def _impedance(self, folder: Path) -> None:
+        """Impedance sweeps (.s1p), then each measured unit's C–V derived from its bias series."""
+        from labdb.measurements.services.bias_series import derive_cv_from_bias_series
+
+        stats = {"stored": 0, "duplicate": 0, "rejected": 0}
+        units = {}
+        for path in sorted(folder.rglob("*.s1p")):
+            rel = str(path.relative_to(folder))
+            for outcome in record_file(path.read_bytes(), rel, origin="command", recompute=False):
+                stats[outcome.status] += 1
+                if outcome.status == "rejected":
+                    self.stderr.write(f"rejected {rel}: " + "; ".join(map(str, outcome.problems)))
+                else:
+                    units[outcome.sweep.unit_id] = outcome.sweep.unit
+        if stats["rejected"]:
+            raise CommandError("some demo impedance files were rejected; see above")
+        derived = [
+            o for u in units.values() for o in derive_cv_from_bias_series(u, origin="command")
+        ]
+        bad = [o for o in derived if o.status == "rejected"]
+        for o in bad:
+            self.stderr.write(f"no C–V from {o.source}: " + "; ".join(map(str, o.problems)))
+        self.stdout.write(
+            f"demo impedance sweeps: {stats['stored']} stored, {stats['duplicate']} already there; "
+            f"C–V derived from {sum(o.status == 'stored' for o in derived)} bias series"
+        )
+        if bad:
+            raise CommandError("a demo bias series gave no C–V; see above")
 
     def _sweeps(self, folder: Path) -> dict:
         stats = {"stored": 0, "duplicate": 0, "rejected": 0}
