@@ -17,6 +17,19 @@ class LotSummary(models.Model):
     """
 
     lot = models.ForeignKey(Lot, on_delete=models.CASCADE, related_name="summaries")
+    # Copies of lot.part and lot.received_on, so search filters and ranks without joining
+    # the lots (labdb/search). Whoever writes a summary sets both from its lot.
+    part = models.ForeignKey(
+        Part,
+        null=True,
+        on_delete=models.CASCADE,
+        related_name="+",
+        db_index=False,
+        help_text="The lot's part (copy of lot.part, for search).",
+    )
+    received_on = models.DateField(
+        null=True, blank=True, help_text="The lot's receipt date (copy, for search)."
+    )
     illumination = models.CharField(max_length=16)
     temperature_c = models.FloatField(help_text="Centre of the temperature band [°C].")
     n_units = models.PositiveIntegerField()
@@ -47,6 +60,11 @@ class LotSummary(models.Model):
         ]
         indexes = [
             models.Index(fields=["illumination", "temperature_c", "swing_med"]),
+            # Search: a part's summaries by condition and receipt (latest lot, since a date).
+            models.Index(
+                fields=["part", "illumination", "temperature_c", "received_on"],
+                name="summary_search_part_idx",
+            ),
         ]
 
     def __str__(self) -> str:
