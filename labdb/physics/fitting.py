@@ -304,7 +304,9 @@ def _fit_one(name, v, cn, w, loss):
     return rob.x, bool(rob.status > 0), msg, w_eff
 
 
-def choose_auto(stats_j, stats_cp, converged_cp):
+def choose_auto(
+    stats_j: dict[str, np.ndarray], stats_cp: dict[str, np.ndarray], converged_cp: np.ndarray
+) -> tuple[np.ndarray, list[str]]:
     """Per sweep, whether ``junction+cp`` wins under ``model="auto"``, and a note on why."""
     a_j, a_cp = stats_j["aicc"], stats_cp["aicc"]
     use_cp = converged_cp & (a_cp < a_j - AICC_MARGIN)
@@ -318,7 +320,18 @@ def choose_auto(stats_j, stats_cp, converged_cp):
     return use_cp, notes
 
 
-def build_fits(name, x, converged, messages, stats, rho, bias_range, loss, notes=None, idx=None):
+def build_fits(
+    name: str,
+    x: np.ndarray,
+    converged: np.ndarray,
+    messages: list[str],
+    stats: dict[str, np.ndarray],
+    rho: np.ndarray,
+    bias_range: tuple[np.ndarray, np.ndarray],
+    loss: str,
+    notes: list[str] | None = None,
+    idx: np.ndarray | None = None,
+) -> list[JunctionFit]:
     """JunctionFit objects for the sweeps ``idx`` (all when None) from shared statistics."""
     idx = np.arange(x.shape[0]) if idx is None else np.asarray(idx)
     keys = MODEL_PARAMS[name]
