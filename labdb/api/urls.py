@@ -9,7 +9,18 @@ from __future__ import annotations
 from django.urls import URLPattern, URLResolver, path, re_path
 from rest_framework.routers import DefaultRouter
 
-from labdb.api.views import calibrations, fits, fixtures, jobs, lots, meta, parts, sweeps, units
+from labdb.api.views import (
+    calibrations,
+    fits,
+    fixtures,
+    impedance,
+    jobs,
+    lots,
+    meta,
+    parts,
+    sweeps,
+    units,
+)
 
 app_name = "api"
 
@@ -37,6 +48,16 @@ urlpatterns = [
     path("lots/<int:pk>/spice", lots.LotSpiceView.as_view(), name="lot-spice"),
     path("lots/<int:pk>/summary", lots.LotSummaryView.as_view(), name="lot-summary"),
     path("jobs/<int:pk>/", jobs.JobDetailView.as_view(), name="job-detail"),
+    path(
+        "sweeps/<int:pk>/impedance", impedance.SweepImpedanceView.as_view(), name="sweep-impedance"
+    ),
+    path(
+        "sweeps/<int:pk>/impedance-fits/",
+        impedance.SweepImpedanceFitsView.as_view(),
+        name="sweep-impedance-fits",
+    ),
+    path("units/<int:pk>/derive-cv", impedance.UnitDeriveCvView.as_view(), name="unit-derive-cv"),
+    path("units/<int:pk>/q", impedance.UnitQView.as_view(), name="unit-q"),
     *router.urls,
     re_path(r"^.*$", meta.NoEndpointView.as_view(), name="no-endpoint"),
 ]

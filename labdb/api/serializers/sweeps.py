@@ -45,6 +45,8 @@ class PointsSerializer(serializers.Serializer):
 
     def to_representation(self, sweep: Sweep):
         pts = sweep.points or {}
+        if sweep.kind == SweepKind.ZF:
+            return None  # impedance against frequency: see sweeps/{id}/impedance
         if "frequency_hz" in pts:
             reading = {"quantity": "frequency_hz", "unit": "Hz", "values": pts["frequency_hz"]}
         else:
@@ -99,7 +101,11 @@ class SweepSerializer(serializers.Serializer):
 
 
 class SweepDetailSerializer(SweepSerializer):
-    points = PointsSerializer(source="*")
+    points = PointsSerializer(
+        source="*",
+        allow_null=True,
+        help_text="Null for an impedance sweep (kind zf): its points are at sweeps/{id}/impedance.",
+    )
     notes = serializers.ListField(
         child=serializers.CharField(), help_text="What the import noticed."
     )

@@ -21,6 +21,7 @@ CONTEXT_FIELDS = (
     "operator",
     "test_frequency_hz",
     "test_level_v",
+    "bias_v",
 )
 
 
@@ -48,7 +49,8 @@ class SweepUploadSerializer(serializers.Serializer):
     """Values given here win over the file's own ``# key: value`` lines (the change is noted)."""
 
     file = serializers.FileField(
-        required=False, help_text="A bench file: delimited text, .xlsx, or a .zip archive."
+        required=False,
+        help_text="A bench file: delimited text, .xlsx, a Touchstone one-port .s1p, or a .zip.",
     )
     points = PointsInputSerializer(required=False)
     part = serializers.CharField(required=False, max_length=80, help_text="Part number.")
@@ -68,6 +70,12 @@ class SweepUploadSerializer(serializers.Serializer):
     )
     model = serializers.ChoiceField(
         choices=MODEL_CHOICES, default="auto", help_text="Junction model to fit."
+    )
+    bias_v = FiniteFloatField(
+        required=False,
+        min_value=-1.0,
+        help_text="Reverse bias of an impedance sweep (.s1p or impedance table) [V]; wins "
+        "over the file's own bias line.",
     )
 
     def validate(self, attrs):

@@ -90,21 +90,27 @@ class SweepViewSet(
         return self.upload_response(outcomes)
 
     def upload_response(self, outcomes: list[Outcome]) -> Response:
-        recorded = [o for o in outcomes if o.status in ("stored", "duplicate")]
-        rejected = [o for o in outcomes if o.status == "rejected"]
-        if not recorded:
-            raise Rejected([p for o in rejected for p in o.problems])
-        stored = any(o.status == "stored" for o in recorded)
-        sweep = Sweep.objects.select_related(*_RELATED).get(pk=recorded[0].sweep.pk)
-        body = dict(SweepDetailSerializer(sweep).data)
-        body["duplicate"] = not stored
-        body["recorded"] = [
-            {"source": o.source, "status": o.status, "sweep": o.sweep.pk} for o in recorded
-        ]
-        body["rejected"] = [
-            {"source": o.source, "errors": [problem_entry(p) for p in o.problems]} for o in rejected
-        ]
-        return Response(body, status=status.HTTP_201_CREATED if stored else status.HTTP_200_OK)
+        return upload_result(outcomes)
+
+
+def upload_result(outcomes: list[Outcome]) -> Response:
+    """201 with the first recorded sweep and what else happened (200 when nothing was new);
+    also what ``units/{id}/derive-cv`` answers."""
+    recorded = [o for o in outcomes if o.status in ("stored", "duplicate")]
+    rejected = [o for o in outcomes if o.status == "rejected"]
+    if not recorded:
+        raise Rejected([p for o in rejected for p in o.problems])
+    stored = any(o.status == "stored" for o in recorded)
+    sweep = Sweep.objects.select_related(*_RELATED).get(pk=recorded[0].sweep.pk)
+    body = dict(SweepDetailSerializer(sweep).data)
+    body["duplicate"] = not stored
+    body["recorded"] = [
+        {"source": o.source, "status": o.status, "sweep": o.sweep.pk} for o in recorded
+    ]
+    body["rejected"] = [
+        {"source": o.source, "errors": [problem_entry(p) for p in o.problems]} for o in rejected
+    ]
+    return Response(body, status=status.HTTP_201_CREATED if stored else status.HTTP_200_OK)
 
 
 class SweepRawView(ApiViewMixin, APIView):
