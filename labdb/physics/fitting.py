@@ -25,6 +25,8 @@ from labdb.physics.junction import MODEL_PARAMS, MODELS, capacitance_of
 
 #: Version of the fitting method, stored with every fit; bump when results would change.
 FITTER_VERSION = "labdb-fit 1"
+#: CP must exceed this many standard errors for ``auto`` to keep the junction+cp model.
+CP_MIN_Z = 2.0
 
 LOSSES = ("linear", "soft_l1")
 MIN_SPAN_V = 0.5  # narrower sweeps cannot separate VJ from M at all
@@ -309,14 +311,33 @@ def choose_auto(
 ) -> tuple[np.ndarray, list[str]]:
     """Per sweep, whether ``junction+cp`` wins under ``model="auto"``, and a note on why."""
     a_j, a_cp = stats_j["aicc"], stats_cp["aicc"]
-    use_cp = converged_cp & (a_cp < a_j - AICC_MARGIN)
-    notes = [
-        f"model chosen by AICc: junction {a_j[i]:.2f}, junction+cp {a_cp[i]:.2f} "
-        f"(junction+cp needs to be lower by more than {AICC_MARGIN:g}"
-        + ("" if converged_cp[i] else " and to converge")
-        + ")"
-        for i in range(len(a_j))
-    ]
+    p, se = stats_cp["params"], stats_cp["stderr"]
+    # The extra parameter must be resolved, and VJ and M must not have run to a bound:
+    # over a short sweep CJO, VJ, M and CP trade off, and AICc alone then picks a
+    # degenerate four-parameter curve (VJ pinned at 5 V, CP half the capacitance).
+    with np.errstate(invalid="ignore"):
+        cp_resolved = np.nan_to_num(p[:, 3] / se[:, 3], nan=0.0) > CP_MIN_Z
+    lo, hi = core.bounds("junction+cp")
+    vjm = p[:, 1:3]
+    pinned = (
+        (vjm - lo[1:3] <= core.BOUND_TOL * lo[1:3]) | (hi[1:3] - vjm <= core.BOUND_TOL * hi[1:3])
+    ).any(axis=1)
+    better = a_cp < a_j - AICC_MARGIN
+    use_cp = converged_cp & better & cp_resolved & ~pinned
+    notes = []
+    for i in range(len(a_j)):
+        why = ""
+        if better[i] and converged_cp[i] and not use_cp[i]:
+            why = "; junction+cp rejected: " + (
+                "VJ or M on a bound" if pinned[i] else f"CP not resolved (< {CP_MIN_Z:g} σ)"
+            )
+        notes.append(
+            f"model chosen by AICc: junction {a_j[i]:.2f}, junction+cp {a_cp[i]:.2f} "
+            f"(junction+cp needs to be lower by more than {AICC_MARGIN:g}"
+            + ("" if converged_cp[i] else " and to converge")
+            + ")"
+            + why
+        )
     return use_cp, notes
 
 
