@@ -60,8 +60,8 @@ def store_fit(
         version=version,
         model=result.model,
         params=dict(p),
-        stderr=dict(result.stderr),
-        correlation=[[float(v) for v in row] for row in result.correlation],
+        stderr={k: _finite_or_none(v) for k, v in result.stderr.items()},
+        correlation=[[_finite_or_none(v) for v in row] for row in result.correlation],
         cjo=p["cjo"],
         vj=p["vj"],
         m=p["m"],
@@ -83,6 +83,7 @@ def store_fit(
 
 
 def _finite_or_none(value):
+    """JSON (and PostgreSQL) have no NaN or infinity: an undetermined number is stored as null."""
     return float(value) if value is not None and np.isfinite(value) else None
 
 
