@@ -27,7 +27,8 @@ class MultipleFileField(forms.FileField):
 class UploadForm(forms.Form):
     files = MultipleFileField(
         required=False,
-        help_text="CSV/TSV/TXT, .xlsx, or a .zip with a manifest.csv; drop files here or browse.",
+        help_text="CSV/TSV/TXT, .xlsx, Touchstone one-port .s1p, or a .zip with a manifest.csv; "
+        "drop files here or browse.",
     )
     part = forms.ModelChoiceField(
         Part.objects.filter(archived=False),
@@ -48,7 +49,19 @@ class UploadForm(forms.Form):
         Fixture.objects.filter(archived=False), to_field_name="name", required=False
     )
     kind = forms.ChoiceField(
-        choices=[("", "from the file"), ("cv", "C–V"), ("fv", "f–V (oscillator)")], required=False
+        choices=[
+            ("", "from the file"),
+            ("cv", "C–V"),
+            ("fv", "f–V (oscillator)"),
+            ("zf", "Z–f (impedance sweep at one bias)"),
+        ],
+        required=False,
+    )
+    bias_v = forms.FloatField(
+        required=False,
+        min_value=-1.0,
+        label="Bias of an impedance sweep (V)",
+        help_text="Reverse bias of .s1p or impedance files that do not say it themselves.",
     )
     temperature_c = forms.FloatField(required=False, min_value=-273.15, max_value=500, label="Temperature (°C)")
     illumination = forms.ChoiceField(

@@ -121,3 +121,12 @@ def test_the_upload_preview_of_a_one_port_file_stores_nothing(member_client, ana
     assert response.status_code == 200
     assert "series equivalent: Cs 50 pF" in response.content.decode()
     assert not Sweep.objects.exists()
+
+
+def test_the_upload_form_gives_the_bias_of_a_file_without_one(member_client, analyser, make_s1p):
+    from django.core.files.uploadedfile import SimpleUploadedFile
+
+    upload = SimpleUploadedFile("u1.s1p", make_s1p(bias=None))
+    form = {"files": upload, "store": "1", "model": "auto", "bias_v": "3.5"}
+    assert member_client.post("/upload/", form).status_code == 200
+    assert Sweep.objects.get().bias_min_v == 3.5

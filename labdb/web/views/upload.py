@@ -73,6 +73,7 @@ def _context(data: dict) -> SweepContext:
         measured_at=data.get("measured_at"),
         operator=data.get("operator") or None,
         model=data.get("model") or "auto",
+        bias_v=data.get("bias_v"),
     )
 
 
