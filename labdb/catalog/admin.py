@@ -3,7 +3,6 @@
 from django.contrib import admin
 
 from labdb.accounts.admin_base import CuratorAdmin, CuratorTabularInline
-
 from labdb.catalog.models import Lot, Part, Unit
 
 
@@ -27,9 +26,35 @@ class PartAdmin(CuratorAdmin):
     inlines = [LotInline]
     actions = [archive]
     fieldsets = [
-        (None, {"fields": ["part_number", "kind", "description", "manufacturer", "rated_reverse_v", "archived"]}),
-        ("Reference bias window (V, reverse positive)", {"fields": ["ref_bias_low_v", "ref_bias_high_v"]}),
-        ("Spec limits (optional)", {"fields": ["spec_bias_v", "spec_c_min_f", "spec_c_max_f", "spec_min_swing", "shift_tolerance"]}),
+        (
+            None,
+            {
+                "fields": [
+                    "part_number",
+                    "kind",
+                    "description",
+                    "manufacturer",
+                    "rated_reverse_v",
+                    "archived",
+                ]
+            },
+        ),
+        (
+            "Reference bias window (V, reverse positive)",
+            {"fields": ["ref_bias_low_v", "ref_bias_high_v"]},
+        ),
+        (
+            "Spec limits (optional)",
+            {
+                "fields": [
+                    "spec_bias_v",
+                    "spec_c_min_f",
+                    "spec_c_max_f",
+                    "spec_min_swing",
+                    "shift_tolerance",
+                ]
+            },
+        ),
     ]
 
 

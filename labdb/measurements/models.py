@@ -7,7 +7,7 @@ from django.db import models
 from django.db.models import Q
 from django.urls import reverse
 
-from labdb.catalog.models import Lot, Unit
+from labdb.catalog.models import Unit
 
 
 class FixtureKind(models.TextChoices):

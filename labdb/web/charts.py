@@ -68,8 +68,15 @@ def residuals(bias_v, rel_residual, title="Fit residuals") -> dict:
     ]
     lay = layout(title, "reverse bias (V)", "relative residual (%)", showlegend=False)
     lay["shapes"] = [
-        {"type": "line", "xref": "paper", "x0": 0, "x1": 1, "y0": 0, "y1": 0,
-         "line": {"color": "#8a8a8a", "width": 1}}
+        {
+            "type": "line",
+            "xref": "paper",
+            "x0": 0,
+            "x1": 1,
+            "y0": 0,
+            "y1": 0,
+            "line": {"color": "#8a8a8a", "width": 1},
+        }
     ]
     return figure(data, lay)
 

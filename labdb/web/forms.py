@@ -63,15 +63,20 @@ class UploadForm(forms.Form):
         label="Bias of an impedance sweep (V)",
         help_text="Reverse bias of .s1p or impedance files that do not say it themselves.",
     )
-    temperature_c = forms.FloatField(required=False, min_value=-273.15, max_value=500, label="Temperature (°C)")
+    temperature_c = forms.FloatField(
+        required=False, min_value=-273.15, max_value=500, label="Temperature (°C)"
+    )
     illumination = forms.ChoiceField(
         choices=[("", "from the file")] + list(Illumination.choices), required=False
     )
     measured_at = forms.DateTimeField(required=False, help_text="e.g. 2026-11-30 14:05")
     operator = forms.CharField(max_length=80, required=False)
     model = forms.ChoiceField(
-        choices=[("auto", "choose by AICc"), ("junction", "junction (CJO, VJ, M)"),
-                 ("junction+cp", "junction + package capacitance")],
+        choices=[
+            ("auto", "choose by AICc"),
+            ("junction", "junction (CJO, VJ, M)"),
+            ("junction+cp", "junction + package capacitance"),
+        ],
         initial="auto",
     )
     staged = forms.CharField(required=False, widget=forms.HiddenInput)
@@ -102,22 +107,33 @@ class CalibrationForm(forms.Form):
                 continue
             cells = [c for c in line.replace(";", ",").replace("\t", ",").split(",") if c.strip()]
             if len(cells) != 2:
-                raise forms.ValidationError(f"line {n}: expected two numbers (pF, MHz), got {line!r}")
+                raise forms.ValidationError(
+                    f"line {n}: expected two numbers (pF, MHz), got {line!r}"
+                )
             try:
                 refs.append(float(cells[0]) * 1e-12)
                 freqs.append(float(cells[1]) * 1e6)
             except ValueError:
                 raise forms.ValidationError(f"line {n}: {line!r} is not two numbers") from None
         if len(refs) < 2:
-            raise forms.ValidationError("give at least two readings (the open fixture and one reference)")
+            raise forms.ValidationError(
+                "give at least two readings (the open fixture and one reference)"
+            )
         return refs, freqs
 
 
 class FixtureForm(forms.ModelForm):
     class Meta:
         model = Fixture
-        fields = ["name", "kind", "description", "test_frequency_hz", "test_level_v",
-                  "nominal_inductance_h", "coupling_f"]
+        fields = [
+            "name",
+            "kind",
+            "description",
+            "test_frequency_hz",
+            "test_level_v",
+            "nominal_inductance_h",
+            "coupling_f",
+        ]
         labels = {
             "test_frequency_hz": "Test-signal frequency (Hz)",
             "test_level_v": "Test-signal level (V)",
@@ -128,5 +144,7 @@ class FixtureForm(forms.ModelForm):
     def clean(self):
         data = super().clean()
         if data.get("kind") == FixtureKind.OSCILLATOR and not data.get("nominal_inductance_h"):
-            self.add_error("nominal_inductance_h", "an oscillator fixture needs its nominal inductance")
+            self.add_error(
+                "nominal_inductance_h", "an oscillator fixture needs its nominal inductance"
+            )
         return data

@@ -46,7 +46,9 @@ def record_calibration(
             )
     except IntegrityError:
         raise Rejected(
-            Problem(f"fixture '{fixture.name}' already has a calibration at {measured_at:%Y-%m-%d %H:%M}")
+            Problem(
+                f"fixture '{fixture.name}' already has a calibration at {measured_at:%Y-%m-%d %H:%M}"
+            )
         ) from None
 
 

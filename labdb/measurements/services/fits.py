@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import hashlib
-from collections import Counter
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 
@@ -13,7 +12,13 @@ from django.db.models import Max
 
 from labdb.measurements.errors import Problem, Rejected
 from labdb.measurements.models import Fit, Sweep, SweepKind
-from labdb.physics import FITTER_VERSION, JunctionFit, PhysicsInputError, fit_junction
+from labdb.physics import (
+    FITTER_VERSION,
+    JunctionFit,
+    PhysicsInputError,
+    fit_junction,
+    fit_junction_batch,
+)
 
 MODEL_CHOICES = ("auto", "junction", "junction+cp")
 
@@ -134,6 +139,24 @@ class RefitSummary:
         ]
 
 
+REFIT_CHUNK = 500
+
+
+def _batch_results(sweeps: list[Sweep], model: str) -> list:
+    """Fit many sweeps at once (vectorised); None where a sweep must be fitted alone."""
+    if not sweeps:
+        return []
+    try:
+        return fit_junction_batch(
+            [s.points["bias_v"] for s in sweeps],
+            [s.points["capacitance_f"] for s in sweeps],
+            model=model,
+        )
+    except PhysicsInputError:
+        # One unfittable sweep refuses the whole batch; fit each alone to name it.
+        return [None] * len(sweeps)
+
+
 def refit_sweeps(
     sweep_ids: Iterable[int],
     *,
@@ -142,29 +165,42 @@ def refit_sweeps(
     origin: str = "refit",
     progress=None,
 ) -> RefitSummary:
-    """Refit the given sweeps; each in its own transaction, so one failure loses nothing else."""
+    """Refit the given sweeps; each stored in its own transaction, so one failure loses nothing.
+
+    Sweeps whose current fit already has these inputs are skipped before any fitting; the
+    rest are fitted together by the vectorised batch fitter (same answers as the single fit).
+    """
     from labdb.quality.hooks import lots_changed
 
+    if model not in MODEL_CHOICES:
+        raise Rejected(Problem(f"unknown model {model!r}; use one of {MODEL_CHOICES}"))
     summary = RefitSummary()
-    counts: Counter = Counter()
-    for sweep in Sweep.objects.filter(pk__in=list(sweep_ids)).select_related("unit", "current_fit"):
-        summary.examined += 1
-        try:
-            if sweep.kind == SweepKind.ZF:  # impedance sweeps refit their R–L–C equivalent
-                from labdb.measurements.services.impedance import fit_impedance_sweep
-
-                fit = fit_impedance_sweep(sweep, origin=origin, user=user)
+    ids = list(sweep_ids)
+    for start in range(0, len(ids), REFIT_CHUNK):
+        chunk = Sweep.objects.filter(pk__in=ids[start : start + REFIT_CHUNK]).select_related(
+            "unit", "current_fit"
+        )
+        todo = []
+        for sweep in chunk:
+            summary.examined += 1
+            current = sweep.current_fit
+            if current is not None and current.input_sha256 == input_hash(
+                sweep.points_sha256, model
+            ):
+                summary.unchanged += 1
             else:
-                fit = fit_sweep(sweep, model=model, origin=origin, user=user)
-        except Rejected as exc:
-            summary.failed.append((sweep.pk, str(exc)))
-            continue
-        if fit is None:
-            summary.unchanged += 1
-        else:
-            summary.new_versions += 1
-            summary.lots.add(sweep.unit.lot_id)
-        counts["done"] += 1
+                todo.append(sweep)
+        for sweep, result in zip(todo, _batch_results(todo, model), strict=True):
+            try:
+                fit = fit_sweep(sweep, model=model, origin=origin, user=user, result=result)
+            except Rejected as exc:
+                summary.failed.append((sweep.pk, str(exc)))
+                continue
+            if fit is None:
+                summary.unchanged += 1
+            else:
+                summary.new_versions += 1
+                summary.lots.add(sweep.unit.lot_id)
         if progress is not None:
             progress(summary.examined)
     if summary.lots:

@@ -36,10 +36,22 @@ def calibration_chart(cal) -> dict:
     line_x = [min(x), max(x)]
     line_y = [1e18 * cal.inductance_h * (cal.stray_f + c * 1e-12) for c in line_x]
     data = [
-        {"type": "scatter", "mode": "markers", "name": "reference readings", "x": x, "y": y,
-         "marker": {"color": charts.PALETTE[0], "size": 8}},
-        {"type": "scatter", "mode": "lines", "name": "least-squares line", "x": line_x, "y": line_y,
-         "line": {"color": charts.PALETTE[1]}},
+        {
+            "type": "scatter",
+            "mode": "markers",
+            "name": "reference readings",
+            "x": x,
+            "y": y,
+            "marker": {"color": charts.PALETTE[0], "size": 8},
+        },
+        {
+            "type": "scatter",
+            "mode": "lines",
+            "name": "least-squares line",
+            "x": line_x,
+            "y": line_y,
+            "line": {"color": charts.PALETTE[1]},
+        },
     ]
     return charts.figure(
         data,
@@ -61,8 +73,12 @@ def fixture_detail(request, pk):
             refs, freqs = form.cleaned_data["readings"]
             try:
                 record_calibration(
-                    fixture, form.cleaned_data["measured_at"], refs, freqs,
-                    user=request.user, notes=form.cleaned_data["notes"],
+                    fixture,
+                    form.cleaned_data["measured_at"],
+                    refs,
+                    freqs,
+                    user=request.user,
+                    notes=form.cleaned_data["notes"],
                 )
             except Rejected as exc:
                 form.add_error(None, str(exc))
@@ -78,8 +94,17 @@ def fixture_detail(request, pk):
                 "cal": cal,
                 "l_sigma": math.sqrt(max(cov[0][0], 0.0)) if cov else None,
                 "c_sigma": math.sqrt(max(cov[1][1], 0.0)) if cov else None,
-                "open_hz": 1 / (2 * math.pi * math.sqrt(cal.inductance_h * cal.stray_f)) if cal.stray_f > 0 else None,
-                "readings": list(zip(cal.ref_capacitance_f, cal.freq_hz, cal.residuals or [None] * len(cal.freq_hz), strict=False)),
+                "open_hz": 1 / (2 * math.pi * math.sqrt(cal.inductance_h * cal.stray_f))
+                if cal.stray_f > 0
+                else None,
+                "readings": list(
+                    zip(
+                        cal.ref_capacitance_f,
+                        cal.freq_hz,
+                        cal.residuals or [None] * len(cal.freq_hz),
+                        strict=False,
+                    )
+                ),
             }
         )
     chart = calibration_chart(calibrations[0]) if calibrations else None

@@ -80,16 +80,29 @@ def _context(data: dict) -> SweepContext:
 def _preview_rows(name: str, data: bytes, ctx: SweepContext) -> list[dict]:
     rows = []
     if name.lower().endswith(".zip"):
-        return [{"source": name, "status": "archive", "notes": ["archive: members are checked when stored"]}]
+        return [
+            {
+                "source": name,
+                "status": "archive",
+                "notes": ["archive: members are checked when stored"],
+            }
+        ]
     for i, outcome in enumerate(preview_file(data, name, ctx)):
-        row = {"source": outcome.source, "status": outcome.status, "notes": outcome.notes,
-               "problems": [str(p) for p in outcome.problems]}
+        row = {
+            "source": outcome.source,
+            "status": outcome.status,
+            "notes": outcome.notes,
+            "problems": [str(p) for p in outcome.problems],
+        }
         if outcome.fit_result is not None:
             bias = np.asarray(outcome.parsed.bias_v)
             grid = charts.smooth_grid(float(bias.min()), float(bias.max()))
             row["fit"] = outcome.fit_result
             row["chart"] = charts.cv_with_fit(
-                bias, outcome.capacitance_f, grid, outcome.fit_result.evaluate(grid),
+                bias,
+                outcome.capacitance_f,
+                grid,
+                outcome.fit_result.evaluate(grid),
                 title=f"Preview: {outcome.source}",
             )
             row["chart_id"] = f"preview-{len(rows)}-{i}"
@@ -125,7 +138,10 @@ def upload(request):
         return render(request, "web/upload.html", {"form": form})
     too_big = [n for n, b in files if len(b) > settings.UPLOAD_MAX_BYTES]
     if too_big:
-        form.add_error("files", f"over the {settings.UPLOAD_MAX_BYTES // 1_000_000} MB limit: {', '.join(too_big)}")
+        form.add_error(
+            "files",
+            f"over the {settings.UPLOAD_MAX_BYTES // 1_000_000} MB limit: {', '.join(too_big)}",
+        )
         return render(request, "web/upload.html", {"form": form}, status=413)
 
     if "preview" in request.POST:
@@ -133,8 +149,11 @@ def upload(request):
         rows = [r for name, blob in files for r in _preview_rows(name, blob, ctx)]
         bound = form.data.copy()
         bound["staged"] = token
-        return render(request, "web/upload.html",
-                      {"form": UploadForm(bound), "preview": rows, "staged": token})
+        return render(
+            request,
+            "web/upload.html",
+            {"form": UploadForm(bound), "preview": rows, "staged": token},
+        )
 
     outcomes, jobs = [], []
     with transaction.atomic():
@@ -154,5 +173,13 @@ def upload(request):
     for job in jobs:
         messages.info(request, f"{job.filename} is importing in the background: job #{job.pk}")
     counts = {s: sum(o.status == s for o in outcomes) for s in ("stored", "duplicate", "rejected")}
-    status = 200 if counts["rejected"] == 0 else 400 if counts["stored"] == 0 and counts["duplicate"] == 0 else 200
-    return render(request, "web/upload_result.html", {"outcomes": outcomes, "counts": counts}, status=status)
+    status = (
+        200
+        if counts["rejected"] == 0
+        else 400
+        if counts["stored"] == 0 and counts["duplicate"] == 0
+        else 200
+    )
+    return render(
+        request, "web/upload_result.html", {"outcomes": outcomes, "counts": counts}, status=status
+    )

@@ -19,7 +19,9 @@ def collect(paths: list[str]) -> list[Path]:
     for raw in paths:
         p = Path(raw)
         if p.is_dir():
-            files += sorted(f for f in p.rglob("*") if f.is_file() and f.suffix.lower() in SWEEP_SUFFIXES)
+            files += sorted(
+                f for f in p.rglob("*") if f.is_file() and f.suffix.lower() in SWEEP_SUFFIXES
+            )
         elif p.is_file():
             files.append(p)
         else:
@@ -32,7 +34,9 @@ class Command(BaseCommand):
 
     def add_arguments(self, parser):
         parser.add_argument("paths", nargs="+", help="files, folders or .zip archives")
-        parser.add_argument("--manifest", help="a manifest CSV for loose files (file, part, lot, unit, …)")
+        parser.add_argument(
+            "--manifest", help="a manifest CSV for loose files (file, part, lot, unit, …)"
+        )
         parser.add_argument("--part")
         parser.add_argument("--lot")
         parser.add_argument("--unit")
@@ -47,9 +51,23 @@ class Command(BaseCommand):
 
     def handle(self, *args, **opts):
         files = collect(opts["paths"])
-        ctx = SweepContext(**{k: opts[k] for k in (
-            "part", "lot", "unit", "fixture", "kind", "temperature_c", "illumination",
-            "measured_at", "operator", "model")})
+        ctx = SweepContext(
+            **{
+                k: opts[k]
+                for k in (
+                    "part",
+                    "lot",
+                    "unit",
+                    "fixture",
+                    "kind",
+                    "temperature_c",
+                    "illumination",
+                    "measured_at",
+                    "operator",
+                    "model",
+                )
+            }
+        )
         rows_by_name = self._manifest(opts.get("manifest"))
         results = []
         lots: set[int] = set()
@@ -62,7 +80,9 @@ class Command(BaseCommand):
 
                 file_ctx = context_for_member(ctx, rows_by_name.get(path.name))
             if path.suffix.lower() == ".zip":
-                outcomes = import_archive(data, path.name, file_ctx, origin="command", recompute=False)
+                outcomes = import_archive(
+                    data, path.name, file_ctx, origin="command", recompute=False
+                )
             else:
                 outcomes = record_file(data, str(path), file_ctx, origin="command", recompute=False)
             for o in outcomes:
@@ -87,7 +107,9 @@ class Command(BaseCommand):
         return {Path(r["file"]).name: r for r in rows}
 
     def _report(self, results) -> None:
-        counts = {s: sum(o.status == s for o in results) for s in ("stored", "duplicate", "rejected")}
+        counts = {
+            s: sum(o.status == s for o in results) for s in ("stored", "duplicate", "rejected")
+        }
         self.stdout.write(f"{'result':<10} {'count':>6}")
         for status, n in counts.items():
             self.stdout.write(f"{status:<10} {n:>6}")

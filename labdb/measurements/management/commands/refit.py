@@ -31,7 +31,9 @@ class Command(BaseCommand):
             qs = qs.filter(pk__in=opts["sweep"])
         ids = list(qs.values_list("pk", flat=True))
         bar = tqdm(total=len(ids), unit="sweep", disable=opts["no_progress"], file=self.stderr._out)
-        summary = refit_sweeps(ids, model=opts["model"], origin="refit", progress=lambda n: bar.update(1))
+        summary = refit_sweeps(
+            ids, model=opts["model"], origin="refit", progress=lambda n: bar.update(n - bar.n)
+        )
         bar.close()
         for label, n in summary.as_rows():
             self.stdout.write(f"{label:<14} {n:>7}")
