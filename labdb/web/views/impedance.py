@@ -127,10 +127,14 @@ def unit_impedance_context(unit: Unit) -> dict:
     groups = impedance_groups(unit)
     if not groups:
         return {}
+    newest: dict[int, ImpedanceFit] = {}
+    ids = [s.pk for sweeps in groups.values() for s in sweeps]
+    for fit in ImpedanceFit.objects.filter(sweep_id__in=ids).order_by("sweep_id", "version"):
+        newest[fit.sweep_id] = fit  # one query; the last version of each sweep wins
     rows = []
     for sweeps in groups.values():
         for s in sorted(sweeps, key=lambda s: s.bias_min_v):
-            rows.append({"sweep": s, "fit": s.impedance_fits.order_by("-version").first()})
+            rows.append({"sweep": s, "fit": newest.get(s.pk)})
     series = []
     for i, d in enumerate(derived_sweeps(unit)):
         pts = d.points
