@@ -136,3 +136,15 @@ def test_an_archive_of_one_port_files_takes_each_bias_from_its_manifest_row(anal
     bad = outs["z/c.s1p"]
     assert bad.status == "rejected" and "three" in bad.problems[0].message
     assert Sweep.objects.filter(kind="zf").count() == 2
+
+
+def test_a_refit_of_bias_and_impedance_sweeps_together_handles_each_kind(
+    analyser, make_s1p, make_cv
+):
+    (zf,) = record_file(make_s1p(), "a.s1p")
+    (cv,) = record_file(make_cv(), "cv.csv")
+    summary = refit_sweeps([zf.sweep.pk, cv.sweep.pk], model="junction")
+    # the C–V sweep was fitted with model "auto": asking for "junction" is a new input
+    assert (summary.examined, summary.new_versions, summary.unchanged) == (2, 1, 1)
+    assert summary.failed == [] and cv.sweep.fits.count() == 2
+    assert zf.sweep.impedance_fits.count() == 1

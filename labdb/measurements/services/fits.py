@@ -157,6 +157,20 @@ def _batch_results(sweeps: list[Sweep], model: str) -> list:
         return [None] * len(sweeps)
 
 
+def _refit_impedance(sweep: Sweep, summary: RefitSummary, origin: str, user) -> None:
+    from labdb.measurements.services.impedance import fit_impedance_sweep
+
+    try:
+        fit = fit_impedance_sweep(sweep, origin=origin, user=user)
+    except Rejected as exc:
+        summary.failed.append((sweep.pk, str(exc)))
+        return
+    if fit is None:
+        summary.unchanged += 1
+    else:
+        summary.new_versions += 1
+
+
 def refit_sweeps(
     sweep_ids: Iterable[int],
     *,
@@ -183,6 +197,9 @@ def refit_sweeps(
         todo = []
         for sweep in chunk:
             summary.examined += 1
+            if sweep.kind == SweepKind.ZF:  # impedance sweeps refit their R–L–C equivalent
+                _refit_impedance(sweep, summary, origin, user)
+                continue
             current = sweep.current_fit
             if current is not None and current.input_sha256 == input_hash(
                 sweep.points_sha256, model
