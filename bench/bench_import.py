@@ -100,7 +100,7 @@ def worker(db_url: str, folder: Path, page_n: int) -> dict:
     client.force_login(user)
     sample = files[:page_n]
     t0 = time.perf_counter()
-    for i, path in enumerate(sample):
+    for path in sample:
         data = path.read_bytes().replace(b"# unit: U", b"# unit: P")
         from django.core.files.uploadedfile import SimpleUploadedFile
 
