@@ -106,6 +106,9 @@ def stored_path(biases: np.ndarray) -> list[tuple[float, float]] | str:
         from django.core.management import call_command
 
         call_command("migrate", verbosity=0)
+        # Warm-up: the lot recomputation a derivation triggers imports statsmodels once per
+        # process (~2 s); that is start-up cost, not the cost of a derivation.
+        import labdb.quality.services  # noqa: F401
         from labdb.catalog.models import Part, Unit
         from labdb.measurements.models import Fixture
         from labdb.measurements.services.bias_series import derive_cv_from_bias_series

@@ -17,7 +17,7 @@ from django.db import transaction
 
 from labdb.catalog.models import Unit
 from labdb.measurements.errors import Problem, Rejected
-from labdb.measurements.models import Sweep, SweepKind
+from labdb.measurements.models import ImpedanceFit, Sweep, SweepKind
 from labdb.measurements.services.fits import fit_sweep, points_hash, run_fit
 from labdb.measurements.services.impedance import (
     current_impedance_fit,
@@ -60,9 +60,12 @@ def _one_per_bias(sweeps: list[Sweep]) -> tuple[list[Sweep], list[str]]:
 
 
 def _series(sweeps: list[Sweep]) -> list[ImpedanceSweep]:
+    newest: dict[int, ImpedanceFit] = {}
+    for fit in ImpedanceFit.objects.filter(sweep__in=sweeps).order_by("sweep_id", "version"):
+        newest[fit.sweep_id] = fit  # one query; the last version of each sweep wins
     out = []
     for s in sweeps:
-        fit = current_impedance_fit(s) or fit_impedance_sweep(s, origin="refit")
+        fit = newest.get(s.pk) or fit_impedance_sweep(s, origin="refit")
         f, z = sweep_impedance(s)
         out.append(ImpedanceSweep(s.bias_min_v, f, z, fit.as_physics()))
     return out
