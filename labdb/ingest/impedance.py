@@ -29,8 +29,9 @@ import numpy as np
 
 from labdb.ingest.build import check_rows, header_problem, read_values
 from labdb.ingest.columns import Column, describe, role_of_name
+from labdb.ingest.delimited import read_delimited
 from labdb.ingest.errors import IssueList, ParseError
-from labdb.ingest.files import ARCHIVE_EXTENSIONS, extension, read_table
+from labdb.ingest.files import ARCHIVE_EXTENSIONS, WORKBOOK_EXTENSIONS, extension, read_table
 from labdb.ingest.metadata import normalize_metadata, squash_key
 from labdb.ingest.sweep import FORWARD_LIMIT_V, too_few
 from labdb.ingest.table import RawTable
@@ -39,6 +40,8 @@ from labdb.ingest.units import parse_quantity, split_header
 from labdb.physics.errors import PhysicsInputError
 from labdb.physics.impedance import s11_to_z
 
+#: Bytes of a text file read to tell an impedance table from a bias sweep (its header).
+SNIFF_BYTES = 16 * 1024
 #: ``# kind:`` values that mark an impedance sweep.
 KIND_WORDS = {"zf", "z", "impedance", "impedancesweep", "zsweep"}
 #: Metadata keys that give the bias of an impedance sweep (squashed).
@@ -121,17 +124,21 @@ def _impedance_role(name: str) -> str | None:
 def is_impedance_file(data: bytes, filename: str) -> bool:
     """True when the file is an impedance sweep rather than a bias sweep.
 
-    Touchstone names (``.s1p``, ``.s2p`` ...) always are; archives never; a table is when
-    its metadata says ``kind: zf`` (or ``impedance``), or when it has a frequency column,
-    no bias column and some impedance quantity (|Z|, phase, R, X, Cs, Cp ...).
+    Touchstone names (``.s1p``, ``.s2p`` ...) always are; archives and workbooks never; a
+    text table is when its metadata says ``kind: zf`` (or ``impedance``), or when it has a
+    frequency column, no bias column and some impedance quantity (|Z|, phase, R, X, Cs,
+    Cp ...). Only the first :data:`SNIFF_BYTES` are looked at, so every upload pays little.
     """
     if port_count(filename) is not None:
         return True
-    if extension(filename) in ARCHIVE_EXTENSIONS or filename.lower().endswith(".zip"):
+    ext = extension(filename)
+    if ext in ARCHIVE_EXTENSIONS or ext in WORKBOOK_EXTENSIONS or ext == ".zip":
+        return False
+    if not isinstance(data, bytes | bytearray | memoryview) or bytes(data[:4]) == b"PK\x03\x04":
         return False
     try:
-        table = read_table(data, filename)
-    except (ParseError, TypeError):
+        table = read_delimited(bytes(data[:SNIFF_BYTES]), filename)
+    except ParseError:
         return False
     if any(_kind_word(k, v) for k, v in table.meta.items()):
         return True

@@ -128,3 +128,8 @@ def test_bias_sweeps_are_not_taken_for_impedance_sweeps(make_cv):
     assert not is_impedance_file(fv, "fv.csv")
     assert not is_impedance_file(b"PK\x03\x04junk", "a.zip")
     assert is_impedance_file(b"anything", "a.s1p") and is_impedance_file(b"", "b.S2P")
+    # workbooks are bias sweeps (an impedance table is given as text), never read twice
+    from pathlib import Path
+
+    book = Path(__file__).resolve().parents[1] / "ingest" / "samples" / "workbook.xlsx"
+    assert not is_impedance_file(book.read_bytes(), "workbook.xlsx")
