@@ -1,7 +1,8 @@
 """Impedance sweeps (impedance against test frequency at one bias) from text tables and .s1p files.
 
-A delimited (or workbook) impedance sweep has a frequency column and one pair that fixes
-the complex impedance, units in the headers as for C–V files:
+A delimited text impedance sweep has a frequency column and one pair that fixes the
+complex impedance, units in the headers as for C–V files (uploads send workbooks to the
+C–V reader; :func:`parse_impedance_file` itself also reads one):
 
 * ``|Z|`` and phase (degrees unless the header says ``rad``),
 * ``R`` (or ``Rs``, ``ESR``) and ``X``,
