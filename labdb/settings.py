@@ -44,6 +44,16 @@ def env_int(name: str, default: int) -> int:
         raise ImproperlyConfigured(f"{name}={value!r} is not a whole number") from None
 
 
+def env_float(name: str, default: float) -> float:
+    value = os.environ.get(name)
+    if value is None or value == "":
+        return default
+    try:
+        return float(value)
+    except ValueError:
+        raise ImproperlyConfigured(f"{name}={value!r} is not a number") from None
+
+
 def env_list(name: str, default: list[str]) -> list[str]:
     value = os.environ.get(name)
     if value is None or value.strip() == "":
@@ -156,6 +166,11 @@ FILE_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
 ARCHIVE_MAX_MEMBERS = env_int("ARCHIVE_MAX_MEMBERS", 20000)
 ARCHIVE_MAX_TOTAL_BYTES = env_int("ARCHIVE_MAX_TOTAL_BYTES", 500 * 1024 * 1024)
 ARCHIVE_MAX_RATIO = env_int("ARCHIVE_MAX_RATIO", 200)
+
+# Quality rules: a unit fit with a larger RMS relative residual is flagged as poor; a lot
+# whose Cpk against the part's spec is below QUALITY_MIN_CPK is flagged.
+QUALITY_MAX_RMS_REL = env_float("QUALITY_MAX_RMS_REL", 0.02)
+QUALITY_MIN_CPK = env_float("QUALITY_MIN_CPK", 1.33)
 
 REST_FRAMEWORK = {
     "DEFAULT_AUTHENTICATION_CLASSES": [

@@ -46,6 +46,10 @@ class LotSummary(models.Model):
     bias_max_v = models.FloatField(help_text="Common measured range: lowest unit maximum.")
     figures = models.JSONField(default=dict)
     band = models.JSONField(default=dict)
+    # What judging other lots and listing findings needs (medians, spreads, the judged unit
+    # values, between-lot results, units that may raise a flag): small, so a new lot's
+    # evaluation reads this for every earlier lot instead of their full ``figures``.
+    digest = models.JSONField(default=dict)
     inputs_sha256 = models.CharField(max_length=64, blank=True)
     computed_at = models.DateTimeField(auto_now=True)
 

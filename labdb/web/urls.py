@@ -2,11 +2,17 @@
 
 from django.urls import path
 
-from labdb.web.views import catalog, dashboard, fixtures, sweeps, upload
+from labdb.web.views import catalog, dashboard, fixtures, quality, sweeps, upload
 
 urlpatterns = [
     path("", dashboard.dashboard, name="dashboard"),
     path("parts/", catalog.part_list, name="part-list"),
+    # Before part-detail: its <path:> would otherwise swallow ".../quality-settings/".
+    path(
+        "parts/<path:part_number>/quality-settings/",
+        quality.part_settings,
+        name="part-quality-settings",
+    ),
     path("parts/<path:part_number>/", catalog.part_detail, name="part-detail"),
     path("lots/<int:pk>/", catalog.lot_detail, name="lot-detail"),
     path("units/<int:pk>/", catalog.unit_detail, name="unit-detail"),
@@ -16,4 +22,7 @@ urlpatterns = [
     path("fixtures/", fixtures.fixture_list, name="fixture-list"),
     path("fixtures/<int:pk>/", fixtures.fixture_detail, name="fixture-detail"),
     path("upload/", upload.upload, name="upload"),
+    path("flags/", quality.flag_list, name="flag-list"),
+    path("flags/<int:pk>/review", quality.flag_review, name="flag-review"),
+    path("lots/compare/", quality.lot_compare, name="lot-compare"),
 ]

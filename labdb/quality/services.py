@@ -1,1 +1,0 @@
-"""Lot summaries and flags (filled in by the lots-over-time work)."""
