@@ -4,6 +4,7 @@ Pages, the API, management commands and background jobs all call these functions
 them writes sweeps or fits any other way.
 """
 
+from labdb.measurements.services.bulk import import_files
 from labdb.measurements.services.calibration import (
     calibration_in_force,
     record_calibration,
@@ -30,6 +31,7 @@ __all__ = [
     "calibration_in_force",
     "fit_sweep",
     "import_archive",
+    "import_files",
     "points_hash",
     "preview_file",
     "record_calibration",

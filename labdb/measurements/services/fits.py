@@ -93,15 +93,32 @@ def _finite_or_none(value):
 
 
 def fit_sweep(
-    sweep: Sweep, *, model: str = "auto", origin: str = "refit", user=None, result=None
+    sweep: Sweep,
+    *,
+    model: str = "auto",
+    origin: str = "refit",
+    user=None,
+    result=None,
+    new_sweep: bool = False,
 ) -> Fit | None:
     """Fit ``sweep`` and store a new version, or return None when nothing would change.
 
     Runs inside the caller's transaction when there is one; the sweep row is locked so two
-    refits of one sweep never write the same version number.
+    refits of one sweep never write the same version number. ``new_sweep`` says the sweep
+    was created in the caller's (still open) transaction: nobody else can see it yet, so
+    version 1 is written without the lock and the version query.
     """
     if sweep.kind == SweepKind.ZF:
         raise Rejected(Problem(f"sweep {sweep.pk} is an impedance sweep: it has no junction fit"))
+    if new_sweep:
+        pts = sweep.points
+        if result is None:
+            result = run_fit(pts["bias_v"], pts["capacitance_f"], model)
+        in_sha = input_hash(sweep.points_sha256, model)
+        fit = store_fit(result, sweep=sweep, version=1, in_sha=in_sha, origin=origin, user=user)
+        Sweep.objects.filter(pk=sweep.pk).update(current_fit=fit)
+        sweep.current_fit = fit
+        return fit
     with transaction.atomic():
         locked = Sweep.objects.select_for_update().get(pk=sweep.pk)
         pts = locked.points

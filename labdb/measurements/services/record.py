@@ -95,6 +95,7 @@ class _Prepared:
     calibration: object | None
     result: object
     notes: list[str]
+    model: str = "auto"
 
 
 def _sha256(data: bytes) -> str:
@@ -114,10 +115,22 @@ def _required(meta: dict, key: str, source: str) -> str:
     return str(value).strip()
 
 
-def resolve_subject(meta: dict, source: str) -> tuple[Part, str, str, Fixture]:
+def _lookup(cache: dict | None, model, field: str, value: str):
+    """One catalogue row by a unique field; a bulk import passes ``cache`` to ask once."""
+    if cache is None:
+        return model.objects.filter(**{field: value}).first()
+    key = (model.__name__, value)
+    if key not in cache:
+        cache[key] = model.objects.filter(**{field: value}).first()
+    return cache[key]
+
+
+def resolve_subject(
+    meta: dict, source: str, cache: dict | None = None
+) -> tuple[Part, str, str, Fixture]:
     """Part, lot code, unit label and fixture named by merged metadata (Rejected if unknown)."""
     part_no = _required(meta, "part", source)
-    part = Part.objects.filter(part_number=part_no).first()
+    part = _lookup(cache, Part, "part_number", part_no)
     if part is None:
         raise Rejected(
             Problem(
@@ -127,7 +140,7 @@ def resolve_subject(meta: dict, source: str) -> tuple[Part, str, str, Fixture]:
     lot_code = _required(meta, "lot", source)
     unit_label = _required(meta, "unit", source)
     fixture_name = _required(meta, "fixture", source)
-    fixture = Fixture.objects.filter(name=fixture_name).first()
+    fixture = _lookup(cache, Fixture, "name", fixture_name)
     if fixture is None:
         raise Rejected(
             Problem(
@@ -137,7 +150,15 @@ def resolve_subject(meta: dict, source: str) -> tuple[Part, str, str, Fixture]:
     return part, lot_code, unit_label, fixture
 
 
-def _prepare(parsed: ParsedSweep, ctx: SweepContext, source: str) -> _Prepared:
+def _prepare(
+    parsed: ParsedSweep,
+    ctx: SweepContext,
+    source: str,
+    *,
+    fit: bool = True,
+    cache: dict | None = None,
+) -> _Prepared:
+    """Resolve, check and convert one parsed sweep; fit it unless a batch fit follows."""
     outer = ctx.as_meta()
     if parsed.unit_label:
         outer.pop("unit", None)  # a wide file names its units in the column headers
@@ -148,7 +169,7 @@ def _prepare(parsed: ParsedSweep, ctx: SweepContext, source: str) -> _Prepared:
     if meta.get("temperature_c") in (None, ""):
         notes.append("no temperature given: assumed 25 °C")
 
-    part, lot_code, unit_label, fixture = resolve_subject(meta, source)
+    part, lot_code, unit_label, fixture = resolve_subject(meta, source, cache)
     if ctx.kind and ctx.kind != parsed.kind:
         raise Rejected(
             Problem(
@@ -192,10 +213,7 @@ def _prepare(parsed: ParsedSweep, ctx: SweepContext, source: str) -> _Prepared:
     extras = {k: np.asarray(v, dtype=float).tolist() for k, v in (parsed.extras or {}).items()}
     if extras:
         points["extras"] = extras
-    try:
-        result = run_fit(points["bias_v"], points["capacitance_f"], ctx.model)
-    except Rejected as exc:
-        raise Rejected([replace(p, file=p.file or source) for p in exc.problems]) from None
+    result = fit_prepared_points(points, ctx.model, source) if fit else None
     if part.rated_reverse_v is not None and float(bias.max()) > part.rated_reverse_v:
         notes.append(
             f"CAUTION: the sweep reaches {bias.max():g} V reverse, beyond the part's rating of "
@@ -212,7 +230,16 @@ def _prepare(parsed: ParsedSweep, ctx: SweepContext, source: str) -> _Prepared:
         calibration=calibration,
         result=result,
         notes=notes,
+        model=ctx.model,
     )
+
+
+def fit_prepared_points(points: dict, model: str, source: str):
+    """The single-sweep fit of converted points, refusals located at ``source``."""
+    try:
+        return run_fit(points["bias_v"], points["capacitance_f"], model)
+    except Rejected as exc:
+        raise Rejected([replace(p, file=p.file or source) for p in exc.problems]) from None
 
 
 def _temperature(value) -> float:
@@ -292,7 +319,9 @@ def _store(prep: _Prepared, data: bytes, raw_name: str, user, origin: str, writt
         metadata=_jsonable(meta),
         uploaded_by=user,
     )
-    fit = fit_sweep(sweep, origin=origin, user=user, result=prep.result)
+    fit = fit_sweep(
+        sweep, model=prep.model, origin=origin, user=user, result=prep.result, new_sweep=True
+    )
     return "stored", sweep, fit, notes
 
 

@@ -16,8 +16,12 @@ from labdb.accounts.services import ensure_user
 from labdb.catalog.models import Lot, Part
 from labdb.ingest import ParseError, parse_calibration
 from labdb.measurements.models import Calibration, Fixture
-from labdb.measurements.services import record_calibration, record_file
-from labdb.quality.hooks import lots_changed
+from labdb.measurements.services import (
+    SweepContext,
+    import_files,
+    record_calibration,
+    record_file,
+)
 
 DEMO_DIR = settings.BASE_DIR / "fixtures" / "demo"
 
@@ -161,14 +165,12 @@ class Command(BaseCommand):
 
     def _sweeps(self, folder: Path) -> dict:
         stats = {"stored": 0, "duplicate": 0, "rejected": 0}
-        lots: set[int] = set()
-        for path in sorted(p for p in folder.rglob("*") if p.is_file()):
-            rel = str(path.relative_to(folder))
-            for outcome in record_file(path.read_bytes(), rel, origin="command", recompute=False):
-                stats[outcome.status] += 1
-                if outcome.status == "rejected":
-                    self.stderr.write(f"rejected {rel}: " + "; ".join(map(str, outcome.problems)))
-                elif outcome.status == "stored":
-                    lots.add(outcome.sweep.unit.lot_id)
-        lots_changed(lots)
+        paths = sorted(p for p in folder.rglob("*") if p.is_file())
+        items = ((p.read_bytes(), str(p.relative_to(folder)), SweepContext()) for p in paths)
+        for outcome in import_files(items, origin="command"):
+            stats[outcome.status] += 1
+            if outcome.status == "rejected":
+                self.stderr.write(
+                    f"rejected {outcome.source}: " + "; ".join(map(str, outcome.problems))
+                )
         return stats

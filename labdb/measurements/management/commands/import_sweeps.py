@@ -8,8 +8,8 @@ from pathlib import Path
 from django.core.management.base import BaseCommand, CommandError
 from tqdm import tqdm
 
-from labdb.measurements.services import SweepContext, import_archive, record_file
-from labdb.quality.hooks import lots_changed
+from labdb.measurements.services import SweepContext, import_files
+from labdb.measurements.services.manifest import context_for_member
 
 SWEEP_SUFFIXES = {".csv", ".tsv", ".txt", ".dat", ".xlsx", ".zip"}
 
@@ -69,27 +69,19 @@ class Command(BaseCommand):
             }
         )
         rows_by_name = self._manifest(opts.get("manifest"))
-        results = []
-        lots: set[int] = set()
-        bar = tqdm(files, unit="file", disable=opts["no_progress"], file=self.stderr._out)
-        for path in bar:
-            data = path.read_bytes()
-            file_ctx = ctx
-            if rows_by_name:
-                from labdb.measurements.services.manifest import context_for_member
 
-                file_ctx = context_for_member(ctx, rows_by_name.get(path.name))
-            if path.suffix.lower() == ".zip":
-                outcomes = import_archive(
-                    data, path.name, file_ctx, origin="command", recompute=False
-                )
-            else:
-                outcomes = record_file(data, str(path), file_ctx, origin="command", recompute=False)
-            for o in outcomes:
-                results.append(o)
-                if o.status == "stored":
-                    lots.add(o.sweep.unit.lot_id)
-        lots_changed(lots)
+        def items():
+            for path in files:
+                file_ctx = ctx
+                if rows_by_name:
+                    file_ctx = context_for_member(ctx, rows_by_name.get(path.name))
+                yield path.read_bytes(), str(path), file_ctx
+
+        bar = tqdm(
+            total=len(files), unit="file", disable=opts["no_progress"], file=self.stderr._out
+        )
+        results = import_files(items(), origin="command", progress=lambda n: bar.update(n - bar.n))
+        bar.close()
         self._report(results)
         rejected = sum(o.status == "rejected" for o in results)
         if rejected:
