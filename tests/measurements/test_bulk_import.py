@@ -1,0 +1,54 @@
+"""The bulk path gives the same outcome per file as recording files one by one."""
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+from django.conf import settings
+
+from labdb.measurements.models import Fit, Sweep
+from labdb.measurements.services import SweepContext, import_files, record_file
+
+pytestmark = pytest.mark.django_db
+
+
+def _files(make_cv, n=6):
+    return [
+        (make_cv(unit=f"U{i}", cjo=(40 + 3 * i) * 1e-12, noise=0.002, seed=i), f"u{i}.csv")
+        for i in range(n)
+    ]
+
+
+def test_bulk_and_single_imports_store_the_same_fits(bench, make_cv):
+    files = _files(make_cv)
+    bulk = import_files(((d, n, SweepContext()) for d, n in files), chunk=4)
+    assert [o.status for o in bulk] == ["stored"] * len(files)
+    bulk_params = {o.sweep.unit.label: o.fit.params for o in bulk}
+    # Record the same files for another lot one by one and compare the fitted parameters.
+    single = [record_file(d, n, SweepContext(lot="L2"))[0] for d, n in files]
+    for o in single:
+        a, b = bulk_params[o.sweep.unit.label], o.fit.params
+        assert a.keys() == b.keys()
+        np.testing.assert_allclose([a[k] for k in a], [b[k] for k in a], rtol=1e-6)
+
+
+def test_a_bad_file_in_a_chunk_is_rejected_alone_and_leaves_no_file(bench, make_cv):
+    files = _files(make_cv, 4)
+    narrow = make_cv(unit="N1", bias=[0.0, 0.1, 0.2, 0.3])  # too narrow to fit
+    files.insert(2, (narrow, "narrow.csv"))
+    files.insert(1, (b"bias (V),C (pF)\n0,x\n", "junk.csv"))
+    out = import_files(((d, n, SweepContext()) for d, n in files), chunk=10)
+    status = {o.source: o.status for o in out}
+    assert status["narrow.csv"] == "rejected" and status["junk.csv"] == "rejected"
+    assert sum(s == "stored" for s in status.values()) == 4
+    assert Sweep.objects.count() == 4 and not Sweep.objects.filter(unit__label="N1").exists()
+    stored = sorted(p.name for p in Path(settings.MEDIA_ROOT).rglob("*") if p.is_file())
+    assert stored == sorted(s.raw_file.name.rsplit("/", 1)[-1] for s in Sweep.objects.all())
+
+
+def test_a_second_bulk_run_reports_duplicates_and_writes_nothing(bench, make_cv):
+    files = _files(make_cv, 3)
+    import_files((d, n, SweepContext()) for d, n in files)
+    again = import_files((d, n, SweepContext()) for d, n in files)
+    assert [o.status for o in again] == ["duplicate"] * 3
+    assert Fit.objects.filter(sweep__isnull=False).count() == 3
