@@ -69,6 +69,26 @@ class LotSummary(models.Model):
                 fields=["part", "illumination", "temperature_c", "received_on"],
                 name="summary_search_part_idx",
             ),
+            # Search ranks every summary of a condition set: with all the columns it reads
+            # in the key, PostgreSQL scans this narrow index instead of the rows, whose
+            # figures/band/digest JSON makes them wide.
+            models.Index(
+                fields=[
+                    "illumination",
+                    "temperature_c",
+                    "part",
+                    "received_on",
+                    "lot",
+                    "n_units",
+                    "bias_min_v",
+                    "bias_max_v",
+                    "cjo_med",
+                    "vj_med",
+                    "m_med",
+                    "cp_med",
+                ],
+                name="summary_search_cover_idx",
+            ),
         ]
 
     def __str__(self) -> str:

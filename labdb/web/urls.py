@@ -2,7 +2,7 @@
 
 from django.urls import path
 
-from labdb.web.views import catalog, dashboard, fixtures, quality, sweeps, upload
+from labdb.web.views import catalog, dashboard, fixtures, quality, search, sweeps, tank, upload
 
 urlpatterns = [
     path("", dashboard.dashboard, name="dashboard"),
@@ -22,6 +22,8 @@ urlpatterns = [
     path("fixtures/", fixtures.fixture_list, name="fixture-list"),
     path("fixtures/<int:pk>/", fixtures.fixture_detail, name="fixture-detail"),
     path("upload/", upload.upload, name="upload"),
+    path("search/", search.search, name="search"),
+    path("tank/", tank.tank, name="tank"),
     path("flags/", quality.flag_list, name="flag-list"),
     path("flags/<int:pk>/review", quality.flag_review, name="flag-review"),
     path("lots/compare/", quality.lot_compare, name="lot-compare"),

@@ -1,0 +1,337 @@
+"""Part search: rank parts by fitted swing in the database, then refine one page with unit fits.
+
+Stage 1 (database, every matching lot summary): evaluate the median unit's C(v1), C(v2) and
+swing with :mod:`labdb.search.expressions`, leave out lots whose measured range the window
+exceeds, group by part (worst-lot swing, capacitance range, units), filter and order.
+Stage 2 (one page of parts only): the page's lot rows, open-flag counts and unit fits —
+unit swings are evaluated by the same expressions on the fit columns — summarised in Python.
+"""
+
+from __future__ import annotations
+
+import math
+import statistics
+from collections import defaultdict
+from dataclasses import dataclass
+
+from django.db.models import (
+    Avg,
+    BooleanField,
+    Case,
+    Count,
+    ExpressionWrapper,
+    F,
+    IntegerField,
+    Max,
+    Min,
+    Q,
+    Sum,
+    Value,
+    When,
+)
+
+from labdb.catalog.models import Part
+from labdb.quality.models import Flag, FlagState
+from labdb.search.expressions import as_float, const, junction_c, lot_c
+from labdb.search.queries import SearchQuery
+from labdb.search.results import LotFigures, PartHit, SearchPage, UnitSpread
+from labdb.search.rows import (
+    condition_rows,
+    newest_per_unit,
+    spans,
+    summaries,
+    unit_fit_rows,
+    unlinked_summaries,
+)
+
+# Ties go to the part registered first: ordering by the id keeps the grouping to one column.
+_ORDER = {
+    "swing": [F("swing_worst").desc(), "part_id"],
+    "cap_high": [F("c_mean").desc(), "part_id"],
+    "cap_low": [F("c_mean").asc(), "part_id"],
+    "recent": [F("latest").desc(nulls_last=True), "part_id"],
+}
+
+
+def window(q: SearchQuery, part_path: str):
+    """(v1, v2) expressions [V]: the query's window, or the part's reference window."""
+    if q.own_window:
+        return F(f"{part_path}__ref_bias_low_v"), F(f"{part_path}__ref_bias_high_v")
+    return const(q.v1_v), const(q.v2_v)
+
+
+def search_rows(q: SearchQuery):
+    """Condition-matching lot summaries annotated with c1, c2 [F], swing and ``spans``."""
+    rows = condition_rows(q)
+    if q.own_window:
+        rows = rows.filter(part__ref_bias_low_v__isnull=False, part__ref_bias_high_v__isnull=False)
+    v1, v2 = window(q, "part")
+    return rows.annotate(
+        c1=as_float(lot_c(v1)),
+        c2=as_float(lot_c(v2)),
+        spans=ExpressionWrapper(spans(v1, v2), output_field=BooleanField()),
+    ).annotate(swing=as_float(F("c1") / F("c2")))
+
+
+@dataclass(frozen=True)
+class Ranking:
+    """Stage 1's answer: matching part ids best first, and what the window left out."""
+
+    part_ids: list[int]
+    beyond_rows: int  # lot summaries whose measured range the window exceeds
+    beyond_parts: int
+
+
+def rank_parts(q: SearchQuery) -> Ranking:
+    """Rank every matching part in one grouped pass over the lot summaries.
+
+    Groups are kept when the part passes or has lot summaries the window extrapolates, so
+    the same pass also counts what extrapolation left out (it is never silent).
+    """
+    counted = Q() if q.include_extrapolated else Q(spans=True)
+    c_at = "c1" if q.c_at == "v1" else "c2"
+    # Only the aggregates this query filters or sorts on: PostgreSQL evaluates the junction
+    # expression once per aggregate and row, so each one left out saves two POWER calls.
+    wanted = {
+        "n_units_sum": Sum("n_units", filter=counted),
+        "n_beyond": Count("lot_id", filter=Q(spans=False)),
+    }
+    if q.min_swing is not None or q.sort == "swing":
+        wanted["swing_worst"] = Min("swing", filter=counted)
+    if q.c_min_f is not None:
+        wanted["c_low"] = Min(c_at, filter=counted)
+    if q.c_max_f is not None:
+        wanted["c_high"] = Max(c_at, filter=counted)
+    if q.sort in ("cap_high", "cap_low"):
+        wanted["c_mean"] = Avg(c_at, filter=counted)
+    if q.sort == "recent":
+        wanted["latest"] = Max("received_on", filter=counted)
+    groups = search_rows(q).values("part_id").annotate(**wanted)
+    passes = Q(n_units_sum__gte=q.min_units)
+    if q.min_swing is not None:
+        passes &= Q(swing_worst__gte=q.min_swing)
+    if q.c_min_f is not None:
+        passes &= Q(c_low__gte=q.c_min_f)
+    if q.c_max_f is not None:
+        passes &= Q(c_high__lte=q.c_max_f)
+    groups = (
+        groups.annotate(
+            passes=Case(When(passes, then=Value(1)), default=Value(0), output_field=IntegerField())
+        )
+        .filter(passes | Q(n_beyond__gt=0))
+        .order_by(F("passes").desc(), *_ORDER[q.sort])
+    )
+    ids, beyond_rows, beyond_parts = [], 0, 0
+    for pid, ok, n_beyond in groups.values_list("part_id", "passes", "n_beyond"):
+        if ok:
+            ids.append(pid)
+        if n_beyond:
+            beyond_rows += n_beyond
+            beyond_parts += 1
+    return Ranking(ids, beyond_rows, beyond_parts)
+
+
+def search_parts(q: SearchQuery) -> SearchPage:
+    """Parts whose fitted swing over a bias window meets the query, ranked, one page.
+
+    Parameters
+    ----------
+    q : SearchQuery
+        Validated here; :class:`~labdb.search.errors.SearchInputError` names bad parameters.
+
+    Returns
+    -------
+    SearchPage
+    """
+    q = q.validated()
+    ranking = rank_parts(q)
+    total = len(ranking.part_ids)
+    n_pages = max(1, math.ceil(total / q.per_page))
+    page = min(q.page, n_pages)
+    page_ids = ranking.part_ids[(page - 1) * q.per_page : page * q.per_page]
+    hits = _refine(q, page_ids)
+    return SearchPage(
+        query=q,
+        hits=tuple(hits),
+        total=total,
+        page=page,
+        n_pages=n_pages,
+        warnings=tuple(_page_warnings(q, ranking)),
+    )
+
+
+def _page_warnings(q: SearchQuery, ranking: Ranking) -> list[str]:
+    out = []
+    where = "its reference window" if q.own_window else f"{q.v1_v:g}–{q.v2_v:g} V"
+    n, parts = ranking.beyond_rows, ranking.beyond_parts
+    if n and not q.include_extrapolated:
+        out.append(
+            f"{summaries(n)} of {parts} part(s) were left out: the window ({where}) reaches "
+            "beyond the bias range those lots were measured over, so their swing would be "
+            "extrapolated. Include extrapolated lots to see them, marked."
+        )
+    elif n:
+        out.append(
+            f"{summaries(n)} of {parts} part(s) are judged beyond their measured bias range "
+            "(marked ‘extrapolated’): treat their figures as extrapolation."
+        )
+    if q.own_window:
+        lacking = Part.objects.filter(archived=False).filter(
+            Q(ref_bias_low_v__isnull=True) | Q(ref_bias_high_v__isnull=True)
+        )
+        if q.kind:
+            lacking = lacking.filter(kind=q.kind)
+        if q.text:
+            lacking = lacking.filter(
+                Q(part_number__icontains=q.text) | Q(description__icontains=q.text)
+            )
+        n = lacking.count()
+        if n:
+            out.append(
+                f"{n} part(s) have no reference bias window and were not judged; give a "
+                "window V1–V2 to include them."
+            )
+    unlinked = unlinked_summaries()
+    if unlinked:
+        out.append(
+            f"{summaries(unlinked)} not yet linked to their part, so not searched; "
+            "recomputing their lots fixes this."
+        )
+    return out
+
+
+def _refine(q: SearchQuery, page_ids: list[int]) -> list[PartHit]:
+    if not page_ids:
+        return []
+    parts = {p["id"]: p for p in Part.objects.filter(id__in=page_ids).values()}
+    flags = dict(
+        Flag.objects.filter(part_id__in=page_ids, state=FlagState.OPEN, active=True)
+        .values("part_id")
+        .annotate(n=Count("id"))
+        .values_list("part_id", "n")
+    )
+    lots_by_part: dict[int, list[LotFigures]] = defaultdict(list)
+    left_out: dict[int, int] = defaultdict(int)
+    rows = search_rows(q).filter(part_id__in=page_ids).order_by("received_on", "lot_id")
+    for r in rows.values(
+        "lot_id",
+        "lot__code",
+        "part_id",
+        "received_on",
+        "temperature_c",
+        "n_units",
+        "cjo_med",
+        "vj_med",
+        "m_med",
+        "cp_med",
+        "c1",
+        "c2",
+        "swing",
+        "bias_min_v",
+        "bias_max_v",
+        "spans",
+    ):
+        if not r["spans"] and not q.include_extrapolated:
+            left_out[r["part_id"]] += 1
+            continue
+        lots_by_part[r["part_id"]].append(_lot(r))
+    units = _unit_spread(q, lots_by_part)
+    # A part whose lots changed between the two queries (a recomputation committed in
+    # between) has nothing left to show; it is skipped rather than shown half-empty.
+    return [
+        _hit(q, parts[pid], lots_by_part[pid], units[pid], flags.get(pid, 0), left_out[pid])
+        for pid in page_ids
+        if lots_by_part.get(pid)
+    ]
+
+
+def _lot(r: dict) -> LotFigures:
+    return LotFigures(
+        lot_id=r["lot_id"],
+        code=r["lot__code"],
+        received_on=r["received_on"],
+        temperature_c=r["temperature_c"],
+        n_units=r["n_units"],
+        params={"cjo": r["cjo_med"], "vj": r["vj_med"], "m": r["m_med"], "cp": r["cp_med"]},
+        c1_f=r["c1"],
+        c2_f=r["c2"],
+        swing=r["swing"],
+        bias_min_v=r["bias_min_v"],
+        bias_max_v=r["bias_max_v"],
+        extrapolated=not r["spans"],
+    )
+
+
+def _unit_spread(q: SearchQuery, lots_by_part: dict[int, list[LotFigures]]):
+    """Per part: units meeting the minimum swing, and the worst unit, from current fits."""
+    lot_part = {lot.lot_id: pid for pid, lots in lots_by_part.items() for lot in lots}
+    v1, v2 = window(q, "unit__lot__part")
+    fit = "current_fit__"
+    rows = (
+        unit_fit_rows(lot_part, q)
+        .annotate(
+            u1=as_float(junction_c(v1, fit + "cjo", fit + "vj", fit + "m", fit + "cp")),
+            u2=as_float(junction_c(v2, fit + "cjo", fit + "vj", fit + "m", fit + "cp")),
+        )
+        .values(
+            "id",
+            "unit_id",
+            "unit__label",
+            "unit__lot_id",
+            "unit__lot__code",
+            "measured_at",
+            "u1",
+            "u2",
+        )
+    )
+    swings: dict[int, list[tuple[float, str]]] = defaultdict(list)
+    for r in newest_per_unit(list(rows)):
+        label = f"lot {r['unit__lot__code']} unit {r['unit__label']}"
+        swings[lot_part[r["unit__lot_id"]]].append((r["u1"] / r["u2"], label))
+    out = {}
+    for pid in lots_by_part:
+        s = swings.get(pid, [])
+        worst = min(s, default=(None, "—"))
+        meeting = None if q.min_swing is None else sum(1 for x, _ in s if x >= q.min_swing)
+        out[pid] = UnitSpread(
+            n_units=len(s), n_meeting=meeting, worst=worst[1], worst_swing=worst[0]
+        )
+    return out
+
+
+def _hit(q, part: dict, lots: list[LotFigures], units: UnitSpread, flags: int, left: int):
+    worst = min(lots, key=lambda lot: lot.swing)
+    dated = [lot.received_on for lot in lots if lot.received_on is not None]
+    v1, v2 = (part["ref_bias_low_v"], part["ref_bias_high_v"]) if q.own_window else (q.v1_v, q.v2_v)
+    warnings = []
+    rated = part["rated_reverse_v"]
+    if rated is not None and v2 > rated:
+        warnings.append(
+            f"the window reaches {v2:g} V, beyond this part's rated {rated:g} V reverse"
+        )
+    if left:
+        warnings.append(f"{left} lot(s) left out: measured over a narrower bias range")
+    if any(lot.extrapolated for lot in lots):
+        warnings.append("some lots are extrapolated beyond their measured bias range")
+    return PartHit(
+        part_id=part["id"],
+        part_number=part["part_number"],
+        kind=part["kind"],
+        description=part["description"],
+        rated_reverse_v=rated,
+        v1_v=v1,
+        v2_v=v2,
+        swing_median=statistics.median(lot.swing for lot in lots),
+        swing_worst=worst.swing,
+        worst_lot=worst.code,
+        c1_f=statistics.median(lot.c1_f for lot in lots),
+        c2_f=statistics.median(lot.c2_f for lot in lots),
+        n_lots=len({lot.lot_id for lot in lots}),
+        n_units=sum(lot.n_units for lot in lots),
+        open_flags=flags,
+        latest_received=max(dated, default=None),
+        lots=tuple(lots),
+        units=units,
+        n_left_out=left,
+        warnings=tuple(warnings),
+    )
