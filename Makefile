@@ -11,7 +11,7 @@ PORT   ?= 8000
 # Only the test run uses this key; a real deployment sets SECRET_KEY itself.
 TEST_ENV := SECRET_KEY=test-only-key-not-secret DEBUG=0
 
-.PHONY: venv run test lint format bench clean
+.PHONY: venv run test browser lint format bench clean
 
 $(STAMP): pyproject.toml
 	@test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
@@ -31,6 +31,15 @@ run: venv
 
 test: venv
 	$(TEST_ENV) $(BIN)/python -m pytest -q
+
+# Browser tests drive Debian's chromium through Playwright (never a downloaded browser).
+# Installing chromium needs root; run `sudo apt-get install -y chromium` yourself otherwise.
+browser: venv
+	@command -v chromium >/dev/null 2>&1 || { \
+	  if [ "$$(id -u)" != 0 ]; then \
+	    echo "chromium is missing: sudo apt-get install -y chromium (needs root)"; exit 1; fi; \
+	  apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium; }
+	$(TEST_ENV) LABDB_BROWSER_TESTS=1 $(BIN)/python -m pytest tests/browser -q
 
 lint: venv
 	$(BIN)/ruff check .

@@ -8,7 +8,10 @@ from labdb.catalog.models import Lot, Part, Unit
 
 @admin.action(description="Archive selected")
 def archive(modeladmin, request, queryset):
-    queryset.update(archived=True)
+    # Row by row, not queryset.update(): each save writes its audit event.
+    for obj in queryset.filter(archived=False):
+        obj.archived = True
+        obj.save(update_fields=["archived"])
 
 
 class LotInline(CuratorTabularInline):

@@ -147,6 +147,8 @@ def upload(request):
     if "preview" in request.POST:
         token = _stage(request, data["files"]) if data["files"] else token
         rows = [r for name, blob in files for r in _preview_rows(name, blob, ctx)]
+        for n, row in enumerate(rows):  # ids unique across files: each chart its own data
+            row["chart_id"] = f"preview-{n}"
         bound = form.data.copy()
         bound["staged"] = token
         return render(
