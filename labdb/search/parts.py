@@ -265,6 +265,7 @@ def _lot(r: dict) -> LotFigures:
 def _unit_spread(q: SearchQuery, lots_by_part: dict[int, list[LotFigures]]):
     """Per part: units meeting the minimum swing, and the worst unit, from current fits."""
     lot_part = {lot.lot_id: pid for pid, lots in lots_by_part.items() for lot in lots}
+    lot_code = {lot.lot_id: lot.code for lots in lots_by_part.values() for lot in lots}
     v1, v2 = window(q, "unit__lot__part")
     fit = "current_fit__"
     rows = (
@@ -273,21 +274,11 @@ def _unit_spread(q: SearchQuery, lots_by_part: dict[int, list[LotFigures]]):
             u1=as_float(junction_c(v1, fit + "cjo", fit + "vj", fit + "m", fit + "cp")),
             u2=as_float(junction_c(v2, fit + "cjo", fit + "vj", fit + "m", fit + "cp")),
         )
-        .values(
-            "id",
-            "unit_id",
-            "unit__label",
-            "unit__lot_id",
-            "unit__lot__code",
-            "measured_at",
-            "u1",
-            "u2",
-        )
+        .values_list("id", "unit_id", "measured_at", "unit__label", "unit__lot_id", "u1", "u2")
     )
     swings: dict[int, list[tuple[float, str]]] = defaultdict(list)
-    for r in newest_per_unit(list(rows)):
-        label = f"lot {r['unit__lot__code']} unit {r['unit__label']}"
-        swings[lot_part[r["unit__lot_id"]]].append((r["u1"] / r["u2"], label))
+    for _, _, _, label, lot_id, u1, u2 in newest_per_unit(rows):
+        swings[lot_part[lot_id]].append((u1 / u2, f"lot {lot_code[lot_id]} unit {label}"))
     out = {}
     for pid in lots_by_part:
         s = swings.get(pid, [])

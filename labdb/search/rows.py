@@ -21,6 +21,7 @@ from labdb.search.queries import PartFilter
 #: supply's resolution, so a window equal to the measured range never counts as extrapolating.
 EDGE_SLACK_V = 1e-6
 _EARLIEST = dt.date(1, 1, 1)
+_OLDEST = dt.datetime.min
 
 
 def open_flags(part_ref: str = "part") -> QuerySet:
@@ -113,12 +114,16 @@ def unit_fit_rows(lot_ids, q: PartFilter) -> QuerySet:
     )
 
 
-def newest_per_unit(rows: list[dict]) -> list[dict]:
-    """Keep each unit's most recent sweep (rows need unit_id, measured_at, id)."""
-    best: dict[int, dict] = {}
+def newest_per_unit(rows) -> list[tuple]:
+    """Keep each unit's most recent sweep.
+
+    ``rows`` are tuples starting (sweep id, unit id, measured_at, ...); a sweep without a
+    measurement time counts as older than any with one, and the later id wins a tie.
+    """
+    best: dict[int, tuple] = {}
+    keys: dict[int, tuple] = {}
     for r in rows:
-        key = (r["measured_at"] is not None, r["measured_at"] or dt.datetime.min, r["id"])
-        cur = best.get(r["unit_id"])
-        if cur is None or key > cur["_key"]:
-            best[r["unit_id"]] = {**r, "_key": key}
+        key = (r[2] is not None, r[2] or _OLDEST, r[0])
+        if r[1] not in keys or key > keys[r[1]]:
+            best[r[1]], keys[r[1]] = r, key
     return list(best.values())

@@ -335,14 +335,14 @@ def _unit_margins(q: TankQuery, lot_ids: list[int]):
             ct_a=as_float(fixed + branch_c(junction_c(const(q.bias_min_v), *cols), q.coupling_f)),
             ct_b=as_float(fixed + branch_c(junction_c(const(q.bias_max_v), *cols), q.coupling_f)),
         )
-        .values("id", "unit_id", "unit__label", "unit__lot_id", "measured_at", "ct_a", "ct_b")
+        .values_list("id", "unit_id", "measured_at", "unit__label", "unit__lot_id", "ct_a", "ct_b")
     )
     out: dict[int, list] = defaultdict(list)
-    for r in newest_per_unit(list(rows)):
-        fa = thomson_hz(q.inductance_h, r["ct_a"])
-        fb = thomson_hz(q.inductance_h, r["ct_b"])
+    for _, _, _, label, lot_id, ct_a, ct_b in newest_per_unit(rows):
+        fa = thomson_hz(q.inductance_h, ct_a)
+        fb = thomson_hz(q.inductance_h, ct_b)
         margin = min(q.f_low_hz / fa, fb / q.f_high_hz)
-        out[r["unit__lot_id"]].append((margin, f"unit {r['unit__label']}", (fa, fb)))
+        out[lot_id].append((margin, f"unit {label}", (fa, fb)))
     return out
 
 
