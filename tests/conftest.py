@@ -105,8 +105,18 @@ def bench(db):
 
 
 def cv_csv(
-    cjo=50e-12, vj=0.7, m=0.5, *, bias=None, unit="U1", lot="L1", part="TST-V1",
-    fixture="meter A", noise=0.0, seed=1, extra_meta="",
+    cjo=50e-12,
+    vj=0.7,
+    m=0.5,
+    *,
+    bias=None,
+    unit="U1",
+    lot="L1",
+    part="TST-V1",
+    fixture="meter A",
+    noise=0.0,
+    seed=1,
+    extra_meta="",
 ) -> bytes:
     """A C–V file as a bench would write it, from known junction parameters."""
     import numpy as np

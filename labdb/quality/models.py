@@ -105,7 +105,9 @@ class Flag(models.Model):
     """A finding that a unit or a lot stands out, with its evidence and review state."""
 
     part = models.ForeignKey(Part, on_delete=models.CASCADE, related_name="flags")
-    lot = models.ForeignKey(Lot, null=True, blank=True, on_delete=models.CASCADE, related_name="flags")
+    lot = models.ForeignKey(
+        Lot, null=True, blank=True, on_delete=models.CASCADE, related_name="flags"
+    )
     unit = models.ForeignKey(
         Unit, null=True, blank=True, on_delete=models.CASCADE, related_name="flags"
     )
@@ -114,7 +116,9 @@ class Flag(models.Model):
     condition = models.CharField(max_length=40, blank=True)
     summary = models.CharField(max_length=300)
     evidence = models.JSONField(default=dict)
-    active = models.BooleanField(default=True, help_text="Does the rule still fire on current data?")
+    active = models.BooleanField(
+        default=True, help_text="Does the rule still fire on current data?"
+    )
     state = models.CharField(max_length=16, choices=FlagState.choices, default=FlagState.OPEN)
     note = models.TextField(blank=True)
     reviewed_by = models.ForeignKey(

@@ -69,7 +69,9 @@ def test_a_sweep_that_cannot_be_fitted_leaves_no_rows_and_no_file(bench, make_cv
     assert _files_on_disk() == []
 
 
-def test_a_failure_while_storing_rolls_back_and_removes_the_written_file(bench, make_cv, monkeypatch):
+def test_a_failure_while_storing_rolls_back_and_removes_the_written_file(
+    bench, make_cv, monkeypatch
+):
     from labdb.measurements.services import fits
 
     def boom(*a, **k):

@@ -39,12 +39,12 @@ def test_the_page_has_no_inline_script(viewer_client, two_parts):
     assert not re.search(r"<script(?![^>]*\bsrc=)(?![^>]*application/json)", html)
 
 
-def test_a_bad_value_is_shown_beside_its_field_not_as_an_error_page(viewer_client, two_parts):
+def test_a_bad_value_is_shown_beside_its_field_with_a_400(viewer_client, two_parts):
     r = viewer_client.get("/search/?v1=5&v2=1")
-    assert r.status_code == 200 and r.context["result"] is None
+    assert r.status_code == 400 and r.context["result"] is None
     assert "must be above its lower end" in r.context["form"].errors["v2"][0]
     r = viewer_client.get("/search/?v1=abc")
-    assert r.status_code == 200 and "v1" in r.context["form"].errors
+    assert r.status_code == 400 and "v1" in r.context["form"].errors
     r = viewer_client.get("/search/?lots=since")
     assert "first receipt date" in r.context["form"].errors["since"][0]
 

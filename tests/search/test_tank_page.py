@@ -59,7 +59,7 @@ def test_a_refusal_is_explained_on_the_page(viewer_client, stock):
 
 def test_bad_values_stay_on_the_form(viewer_client):
     r = viewer_client.get("/tank/?l_uh=-1&f_low=7&f_high=5&v_max=5")
-    assert r.status_code == 200 and r.context["result"] is None
+    assert r.status_code == 400 and r.context["result"] is None
     errors = r.context["form"].errors
     assert "l_uh" in errors and "f_high" in errors
     r = viewer_client.get("/tank/?l_uh=10&f_low=5&f_high=6")

@@ -119,12 +119,6 @@ def test_a_search_page_past_the_end_is_empty_not_an_error(lab, client_as):
     assert "<h2>0 parts found</h2>" in response.content.decode()
 
 
-@pytest.mark.xfail(
-    reason="the search and tank pages render a refused query with status 200; the brief asks "
-    "for a 4xx (one-line change in labdb/web/views/search.py and tank.py, owned by the "
-    "search pages): reported to the lead",
-    strict=False,
-)
 @pytest.mark.parametrize(("url", "field"), SEARCH_CASES[:3])
 def test_the_search_pages_answer_400_to_a_refused_query(lab, client_as, url, field):
     assert client_as("viewer").get(url).status_code == 400

@@ -14,7 +14,9 @@ def _file(data, name="u1.csv"):
 
 
 def test_preview_shows_the_fit_and_stores_nothing(bench, make_cv, member_client):
-    response = member_client.post("/upload/", {"files": _file(make_cv()), "preview": "1", "model": "auto"})
+    response = member_client.post(
+        "/upload/", {"files": _file(make_cv()), "preview": "1", "model": "auto"}
+    )
     assert response.status_code == 200
     assert b"Preview (nothing stored yet)" in response.content
     assert b"CJO" in response.content
@@ -22,7 +24,9 @@ def test_preview_shows_the_fit_and_stores_nothing(bench, make_cv, member_client)
 
 
 def test_store_after_preview_uses_the_staged_files(bench, make_cv, member_client):
-    response = member_client.post("/upload/", {"files": _file(make_cv()), "preview": "1", "model": "auto"})
+    response = member_client.post(
+        "/upload/", {"files": _file(make_cv()), "preview": "1", "model": "auto"}
+    )
     token = response.context["staged"]
     response = member_client.post("/upload/", {"staged": token, "store": "1", "model": "auto"})
     assert response.status_code == 200
@@ -36,8 +40,15 @@ def test_store_reports_stored_duplicate_and_rejected(bench, make_cv, member_clie
     bad = b"bias (V),C (pF)\n0,oops\n"
     response = member_client.post(
         "/upload/",
-        {"files": [_file(good, "again.csv"), _file(make_cv(unit="U2"), "u2.csv"), _file(bad, "bad.csv")],
-         "store": "1", "model": "auto"},
+        {
+            "files": [
+                _file(good, "again.csv"),
+                _file(make_cv(unit="U2"), "u2.csv"),
+                _file(bad, "bad.csv"),
+            ],
+            "store": "1",
+            "model": "auto",
+        },
     )
     counts = response.context["counts"]
     assert counts == {"stored": 1, "duplicate": 1, "rejected": 1}
@@ -45,18 +56,32 @@ def test_store_reports_stored_duplicate_and_rejected(bench, make_cv, member_clie
     assert b"bad.csv" in response.content
 
 
-def test_a_new_part_named_on_the_form_is_created_only_if_something_is_stored(bench, make_cv, member_client):
+def test_a_new_part_named_on_the_form_is_created_only_if_something_is_stored(
+    bench, make_cv, member_client
+):
     data = make_cv(part="NEW-7")
     bad = b"bias (V),C (pF)\n0,oops\n"
     member_client.post(
         "/upload/",
-        {"files": _file(bad), "new_part_number": "NEW-7", "new_part_kind": "led", "store": "1", "model": "auto"},
+        {
+            "files": _file(bad),
+            "new_part_number": "NEW-7",
+            "new_part_kind": "led",
+            "store": "1",
+            "model": "auto",
+        },
     )
     assert not Part.objects.filter(part_number="NEW-7").exists()
     member_client.post(
         "/upload/",
-        {"files": _file(data), "new_part_number": "NEW-7", "new_part_kind": "led",
-         "new_part_rated_reverse_v": "5", "store": "1", "model": "auto"},
+        {
+            "files": _file(data),
+            "new_part_number": "NEW-7",
+            "new_part_kind": "led",
+            "new_part_rated_reverse_v": "5",
+            "store": "1",
+            "model": "auto",
+        },
     )
     part = Part.objects.get(part_number="NEW-7")
     assert part.kind == "led" and part.rated_reverse_v == 5.0

@@ -246,4 +246,6 @@ def search(request):
             "rows": rows,
             "pages": pages,
         },
+        # A refused query is the client's error: say so in the status as well as the page.
+        status=400 if form.is_bound and form.errors else 200,
     )

@@ -142,4 +142,9 @@ def tank(request):
             form.attach(err)
     if result is not None and result.candidates:
         chart = tank_chart(result)
-    return render(request, "web/tank.html", {"form": form, "result": result, "chart": chart})
+    return render(
+        request,
+        "web/tank.html",
+        {"form": form, "result": result, "chart": chart},
+        status=400 if form.is_bound and form.errors else 200,
+    )
