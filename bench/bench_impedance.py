@@ -24,6 +24,8 @@ import scipy
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
+from support.machine import cpu_model  # noqa: E402
+
 from labdb.ingest.impedance import parse_impedance_file  # noqa: E402
 from labdb.physics.bias_series import ImpedanceSweep, bias_series_to_cv  # noqa: E402
 from labdb.physics.fitting import fit_junction  # noqa: E402
@@ -35,16 +37,6 @@ N_BIASES = 25
 REPEATS_FILE = 200
 REPEATS_SERIES = 7
 REPEATS_STORED = 3
-
-
-def cpu_model() -> str:
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                return line.split(":", 1)[1].strip()
-    except OSError:
-        pass
-    return platform.processor() or "unknown"
 
 
 def s1p(bias_v: float, rng: np.random.Generator, unit: str = "U1", lot: str = "B1") -> bytes:

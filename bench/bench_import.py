@@ -11,30 +11,17 @@ from __future__ import annotations
 import argparse
 import json
 import os
-import platform
 import subprocess
 import sys
 import tempfile
 import time
 from pathlib import Path
 
+from support.machine import describe
+
 ROOT = Path(__file__).resolve().parent.parent
 PG_ADMIN = "postgres://postgres@127.0.0.1:5432/postgres"
 PG_URL = "postgres://postgres@127.0.0.1:5432/labdb_bench_import"
-
-
-def machine() -> str:
-    cpu = "unknown CPU"
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                cpu = line.split(":", 1)[1].strip()
-                break
-    except OSError:
-        pass
-    return (
-        f"{platform.node()} · {cpu} · {os.cpu_count()} cores · Python {platform.python_version()}"
-    )
 
 
 def write_files(folder: Path, n: int) -> None:
@@ -129,7 +116,7 @@ def main() -> None:
     if args.worker:
         print(json.dumps(worker(args.worker[0], Path(args.worker[1]), args.page_n)))
         return
-    print(f"machine: {machine()}")
+    print(f"machine: {describe()}")
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp) / "files"
         folder.mkdir()

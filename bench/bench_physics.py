@@ -24,6 +24,8 @@ from scipy.optimize import curve_fit  # noqa: E402
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
+from support.machine import cpu_model  # noqa: E402
+
 from labdb.physics.batch import fit_junction_batch  # noqa: E402
 from labdb.physics.fitting import fit_junction  # noqa: E402
 from labdb.physics.junction import junction_capacitance  # noqa: E402
@@ -33,16 +35,6 @@ N_POINTS = 41
 N_CURVE_FIT = 1_000  # curve_fit is timed on this many sweeps and scaled to N_SWEEPS
 N_SINGLE = 200
 REPEATS = 3
-
-
-def cpu_model() -> str:
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                return line.split(":", 1)[1].strip()
-    except OSError:
-        pass
-    return platform.processor() or "unknown"
 
 
 def synthetic(n: int, seed: int = 2026):

@@ -33,22 +33,14 @@ import time
 from datetime import date, timedelta
 from pathlib import Path
 
+from support.machine import cpu_model  # noqa: E402
+
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 PART = "BENCH-Q-1"
 N_POINTS = 41
 SEED = 20261202
-
-
-def cpu_model() -> str:
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                return line.split(":", 1)[1].strip()
-    except OSError:
-        pass
-    return platform.processor() or "unknown"
 
 
 def setup_django() -> None:

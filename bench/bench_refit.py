@@ -27,6 +27,8 @@ import tempfile
 import time
 from pathlib import Path
 
+from support.machine import cpu_model  # noqa: E402
+
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
@@ -35,16 +37,6 @@ PG = "postgres://postgres@127.0.0.1:5432"
 BROKER = "redis://127.0.0.1:6379/14"
 TARGET = 100_000
 N_POINTS = 41
-
-
-def cpu_model() -> str:
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                return line.split(":", 1)[1].strip()
-    except OSError:
-        pass
-    return platform.processor() or "unknown"
 
 
 def services_ready() -> str | None:

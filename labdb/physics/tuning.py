@@ -362,8 +362,9 @@ def fixed_capacitance_to_centre(
     elif c_a * c_b > k * k:
         f_centre_bare = 1.0 / (TWO_PI * math.sqrt(big_l) * (c_a * c_b) ** 0.25)
         reason = (
-            f"with no fixed capacitance the range is centred at {f_centre_bare:.6g} Hz, below "
-            f"the band centre {f_c:.6g} Hz; centring would need negative capacitance "
+            # Messages reach people: frequencies in MHz, as on the bench.
+            f"with no fixed capacitance the range is centred at {f_centre_bare / 1e6:.6g} MHz, "
+            f"below the band centre {f_c / 1e6:.6g} MHz; centring would need negative capacitance "
             "(use a smaller inductance)"
         )
     else:

@@ -36,3 +36,9 @@ def uh(value, digits=4):
 def sig(value, digits=4):
     """A plain number to ``digits`` significant figures."""
     return _scaled(value, 1.0, int(digits))
+
+
+@register.filter
+def get_item(mapping, key):
+    """``mapping[key]`` in a template, or None."""
+    return mapping.get(key) if hasattr(mapping, "get") else None

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from django import forms
 from django.shortcuts import render
@@ -12,6 +14,7 @@ from labdb.physics import tank_frequency
 from labdb.search.errors import SearchInputError
 from labdb.search.queries import TankQuery
 from labdb.search.services import find_tanks
+from labdb.search.tank_q import lot_q_at
 from labdb.web import charts
 from labdb.web.views.search import PartFilterForm
 
@@ -140,11 +143,15 @@ def tank(request):
             result = find_tanks(form.query())
         except SearchInputError as err:
             form.attach(err)
+    lot_q = {}
     if result is not None and result.candidates:
         chart = tank_chart(result)
+        centre = math.sqrt(result.query.f_low_hz * result.query.f_high_hz)
+        lot_ids = [lot.lot_id for c in result.candidates for lot in c.lots]
+        lot_q = lot_q_at(lot_ids, centre)
     return render(
         request,
         "web/tank.html",
-        {"form": form, "result": result, "chart": chart},
+        {"form": form, "result": result, "chart": chart, "lot_q": lot_q},
         status=400 if form.is_bound and form.errors else 200,
     )
