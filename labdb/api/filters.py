@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from django import forms
 from django_filters import rest_framework as filters
+from django_filters.widgets import BooleanWidget
 
 from labdb.catalog.models import Lot, Part, PartKind, Unit
 from labdb.measurements.models import (
@@ -15,6 +16,8 @@ from labdb.measurements.models import (
     Sweep,
     SweepKind,
 )
+from labdb.quality.models import Flag, FlagState
+from labdb.quality.services.rules import RULES
 
 # Ids beyond a signed 64-bit integer cannot exist; refusing them keeps the database driver
 # from ever seeing an out-of-range number.
@@ -33,6 +36,31 @@ class FiniteNumberFilter(filters.NumberFilter):
 
     def __init__(self, *args, **kwargs):
         super().__init__(*args, **{"min_value": -1e12, "max_value": 1e12, **kwargs})
+
+
+class _StrictBooleanWidget(BooleanWidget):
+    """true/false/1/0 as booleans; any other non-empty text passes on to be refused."""
+
+    def value_from_datadict(self, data, files, name):
+        value = super().value_from_datadict(data, files, name)
+        raw = data.get(name)
+        return raw if value is None and raw not in (None, "") else value
+
+
+class _StrictBooleanField(forms.NullBooleanField):
+    def to_python(self, value):
+        if value is True or value is False or value in (None, ""):
+            return None if value == "" else value
+        raise forms.ValidationError("use true or false", code="invalid")
+
+
+class StrictBooleanFilter(filters.BooleanFilter):
+    """A yes/no filter that refuses other values instead of silently ignoring them."""
+
+    field_class = _StrictBooleanField
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **{"widget": _StrictBooleanWidget, **kwargs})
 
 
 class PartFilter(filters.FilterSet):
@@ -125,3 +153,16 @@ class FitVersionFilter(filters.FilterSet):
     class Meta:
         model = Fit
         fields = ["version"]
+
+
+class FlagFilter(filters.FilterSet):
+    state = filters.ChoiceFilter(choices=FlagState.choices)
+    active = StrictBooleanFilter(help_text="does the rule still fire on current data?")
+    rule = filters.ChoiceFilter(choices=list(RULES.items()))
+    part = filters.CharFilter(field_name="part__part_number", help_text="part number")
+    lot = IdFilter(field_name="lot_id", help_text="lot id")
+    unit = IdFilter(field_name="unit_id", help_text="unit id")
+
+    class Meta:
+        model = Flag
+        fields = ["state", "active", "rule", "part", "lot", "unit"]

@@ -2,7 +2,11 @@
 
 from __future__ import annotations
 
-from drf_spectacular.extensions import OpenApiAuthenticationExtension
+from drf_spectacular.extensions import (
+    OpenApiAuthenticationExtension,
+    OpenApiSerializerFieldExtension,
+)
+from drf_spectacular.plumbing import ResolvedComponent
 
 ERROR_SCHEMA = {
     "type": "object",
@@ -56,6 +60,24 @@ class ApiTokenScheme(OpenApiAuthenticationExtension):
             "description": "Personal token: `Authorization: Token <key>` (mint one at "
             "/account/tokens/ or with `manage.py mint_token`).",
         }
+
+
+class NamedChoiceFieldExtension(OpenApiSerializerFieldExtension):
+    """A ``NamedChoiceField`` refers to one enum component of its own name."""
+
+    target_class = "labdb.api.serializers.common.NamedChoiceField"
+    match_subclasses = True
+
+    def map_serializer_field(self, auto_schema, direction):
+        field = self.target
+        component = ResolvedComponent(
+            name=field.enum_name,
+            type=ResolvedComponent.SCHEMA,
+            object=field.enum_name,
+            schema={"type": "string", "enum": [str(key) for key in field.choices]},
+        )
+        auto_schema.registry.register_on_missing(component)
+        return component.ref
 
 
 def add_error_responses(result, generator, request, public):

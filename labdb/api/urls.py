@@ -13,12 +13,15 @@ from labdb.api.views import (
     calibrations,
     fits,
     fixtures,
+    flags,
     impedance,
     jobs,
     lots,
     meta,
     parts,
+    search,
     sweeps,
+    tank,
     units,
 )
 
@@ -36,7 +39,7 @@ router.register("units", units.UnitViewSet, basename="unit")
 router.register("fixtures", fixtures.FixtureViewSet, basename="fixture")
 router.register("calibrations", calibrations.CalibrationViewSet, basename="calibration")
 router.register("sweeps", sweeps.SweepViewSet, basename="sweep")
-# Extension points: flags/, search/ and tank/ register here when their features land.
+router.register("flags", flags.FlagViewSet, basename="flag")
 
 urlpatterns = [
     path("schema/", meta.SchemaView.as_view(), name="schema"),
@@ -58,6 +61,8 @@ urlpatterns = [
     ),
     path("units/<int:pk>/derive-cv", impedance.UnitDeriveCvView.as_view(), name="unit-derive-cv"),
     path("units/<int:pk>/q", impedance.UnitQView.as_view(), name="unit-q"),
+    path("search/", search.SearchView.as_view(), name="search"),
+    path("tank/", tank.TankView.as_view(), name="tank"),
     *router.urls,
     re_path(r"^.*$", meta.NoEndpointView.as_view(), name="no-endpoint"),
 ]

@@ -188,3 +188,122 @@ def parse_card():
         return match.group(1), {k.upper(): float(v) for k, v in params.items()}
 
     return parse
+
+
+class Stock:
+    """Parts whose lots hold unit fits of known junction parameters, and their summaries.
+
+    Summaries are written from the generating parameters (medians over the units, the
+    common measured range), so search tests do not depend on the quality service.
+    """
+
+    def __init__(self):
+        from labdb.measurements.models import Fixture
+
+        self.meter = Fixture.objects.create(name="stock meter", kind="meter")
+        self._n = 0
+
+    def part(self, number, *, window=(1.0, 10.0), kind="varactor"):
+        from labdb.catalog.models import Part
+
+        low, high = window
+        return Part.objects.create(
+            part_number=number,
+            kind=kind,
+            rated_reverse_v=30.0,
+            ref_bias_low_v=low,
+            ref_bias_high_v=high,
+        )
+
+    def lot(self, part, code, units, *, measured=(0.0, 20.0)):
+        """A lot with one unit per (cjo [F], vj [V], m, cp [F]) tuple, and its summary."""
+        import numpy as np
+
+        from labdb.catalog.models import Lot
+        from labdb.quality.models import LotSummary
+
+        lot = Lot.objects.create(part=part, code=code)
+        for i, params in enumerate(units, 1):
+            self._unit_fit(lot, f"U{i:02d}", params, measured)
+        med = np.median(np.asarray(units, dtype=float), axis=0)
+        LotSummary.objects.create(
+            lot=lot,
+            part=part,
+            received_on=lot.received_on,
+            illumination="dark",
+            temperature_c=25.0,
+            n_units=len(units),
+            n_sweeps=len(units),
+            cjo_med=med[0],
+            vj_med=med[1],
+            m_med=med[2],
+            cp_med=med[3],
+            bias_min_v=measured[0],
+            bias_max_v=measured[1],
+        )
+        return lot
+
+    def _unit_fit(self, lot, label, params, measured):
+        import hashlib
+
+        from labdb.catalog.models import Unit
+        from labdb.measurements.models import Fit, Sweep
+
+        cjo, vj, m, cp = params
+        unit = Unit.objects.create(lot=lot, label=label)
+        self._n += 1
+        sha = hashlib.sha256(f"api-stock-{self._n}".encode()).hexdigest()
+        sweep = Sweep.objects.create(
+            unit=unit,
+            fixture=self.meter,
+            kind="cv",
+            raw_file=f"stock/{sha}.csv",
+            raw_name="stock.csv",
+            raw_sha256=sha,
+            raw_size=1,
+            points={"bias_v": list(measured)},
+            points_sha256=sha,
+            n_points=2,
+            bias_min_v=measured[0],
+            bias_max_v=measured[1],
+            temperature_c=25.0,
+            illumination="dark",
+        )
+        fit = Fit.objects.create(
+            sweep=sweep,
+            version=1,
+            model="junction+cp",
+            params={"cjo": cjo, "vj": vj, "m": m, "cp": cp},
+            stderr={},
+            correlation=[],
+            cjo=cjo,
+            vj=vj,
+            m=m,
+            cp=cp,
+            rms_rel=0.0,
+            n_points=2,
+            bias_min_v=measured[0],
+            bias_max_v=measured[1],
+            converged=True,
+            fitter_version="stock",
+            input_sha256=sha,
+            origin="command",
+        )
+        sweep.current_fit = fit
+        sweep.save(update_fields=["current_fit"])
+
+
+@pytest.fixture
+def stock(db):
+    """Builders for parts and lots of known junction parameters (search and tank tests)."""
+    return Stock()
+
+
+@pytest.fixture
+def errors_of():
+    """``errors_of(response)`` → {field: message} of a 4xx answer in the API's error shape."""
+
+    def read(response) -> dict[str, str]:
+        return {e.get("field", ""): e["message"] for e in response.json()["errors"]}
+
+    return read

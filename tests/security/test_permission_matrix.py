@@ -131,6 +131,12 @@ API_POLICY: dict[str, Rule] = {
     "api:fit-detail": api(VIEWER, None, obj="fit"),
     "api:fit-spice": api(VIEWER, None, obj="fit"),
     "api:job-detail": api(VIEWER, None, obj="job", owner="member"),
+    # Flags: everyone with a role reads; reviews (PATCH) are curators' (checked before the
+    # method is refused, so a member's POST is 403 and a curator's 405).
+    "api:flag-list": api(VIEWER, None, gate=CURATOR),
+    "api:flag-detail": api(VIEWER, None, obj="flag", gate=CURATOR),
+    "api:search": api(VIEWER, None),  # no parameters: the default search
+    "api:tank": api(VIEWER, None, ok_get=400),  # no parameters: inductance and band missing
 }
 # fmt: on
 

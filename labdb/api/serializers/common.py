@@ -77,3 +77,15 @@ class ModelConstraintsMixin:
                         key, text = target or field, explanation
                 out.setdefault(key, []).append(text)
         return out
+
+
+class NamedChoiceField(serializers.ChoiceField):
+    """A choice field whose OpenAPI enum is the component ``enum_name``.
+
+    Two resources may share a field name with different choice sets (a flag's ``state`` and
+    a job's ``state``); naming the enum here keeps drf-spectacular from guessing a name.
+    """
+
+    def __init__(self, *args, enum_name: str, **kwargs):
+        self.enum_name = enum_name
+        super().__init__(*args, **kwargs)
