@@ -52,6 +52,20 @@ def _load():
 schema = _load()
 
 
+@pytest.fixture(autouse=True)
+def _keep_the_test_connection():
+    # Requests go straight to the WSGI app, whose request signals would close the database
+    # connection the test's transaction lives on (Django's test client unhooks them too).
+    from django.core.signals import request_finished, request_started
+    from django.db import close_old_connections
+
+    request_started.disconnect(close_old_connections)
+    request_finished.disconnect(close_old_connections)
+    yield
+    request_started.connect(close_old_connections)
+    request_finished.connect(close_old_connections)
+
+
 @pytest.fixture
 def write_key(member):
     from labdb.api.tokens import mint_token

@@ -1,5 +1,7 @@
 """An acknowledged flag reopens when its figure moves by more than 25 % of its distance to the limit."""
 
+import hashlib
+
 import pytest
 
 from labdb.measurements.models import Fit, Sweep
@@ -52,7 +54,7 @@ def _refit_unit(lot, label, factor):
         bias_max_v=old.bias_max_v,
         converged=True,
         fitter_version=old.fitter_version,
-        input_sha256=f"{old.input_sha256}-{factor}",
+        input_sha256=hashlib.sha256(f"{old.input_sha256}-{factor}".encode()).hexdigest(),
         origin="refit",
     )
     Sweep.objects.filter(pk=sweep.pk).update(current_fit=fit)
