@@ -9,6 +9,8 @@ from datetime import timedelta
 from django.utils import timezone
 
 from labdb.api.models import ApiToken, TokenScope
+from labdb.audit.models import Action
+from labdb.audit.services import record_event
 
 #: Visible characters kept in the clear; 6 bytes of the key's randomness, enough to tell
 #: a user's tokens apart and far too few to help guess the rest (the key has 256 bits).
@@ -35,6 +37,14 @@ def mint_token(user, scope: str = TokenScope.READ, name: str = "") -> tuple[ApiT
         scope=scope,
         prefix=key[:PREFIX_LENGTH],
         key_sha256=hash_key(key),
+    )
+    # The key itself never reaches the trail: scope, name and prefix identify the token.
+    record_event(
+        Action.CREATED,
+        token,
+        actor=user,
+        summary=f"API token {token.prefix}… ({scope}) minted",
+        changes={"scope": scope, "name": token.name, "prefix": token.prefix},
     )
     return token, key
 
@@ -63,4 +73,12 @@ def revoke_token(token: ApiToken) -> bool:
         revoked_at=timezone.now()
     )
     token.refresh_from_db(fields=["revoked_at"])
+    if changed:
+        record_event(
+            Action.ARCHIVED,
+            token,
+            actor=token.user,
+            summary=f"API token {token.prefix}… revoked",
+            changes={"revoked_at": token.revoked_at.isoformat()},
+        )
     return bool(changed)
