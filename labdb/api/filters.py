@@ -2,9 +2,12 @@
 
 from __future__ import annotations
 
+import datetime as dt
+
 from django import forms
 from django_filters import rest_framework as filters
 from django_filters.widgets import BooleanWidget
+from rest_framework.exceptions import ValidationError
 
 from labdb.catalog.models import Lot, Part, PartKind, Unit
 from labdb.measurements.models import (
@@ -22,6 +25,25 @@ from labdb.quality.services.rules import RULES
 # Ids beyond a signed 64-bit integer cannot exist; refusing them keeps the database driver
 # from ever seeing an out-of-range number.
 _ID_LIMITS = {"min_value": 1, "max_value": 2**63 - 1}
+
+
+class UtcDateTimeFilter(filters.IsoDateTimeFilter):
+    """An ISO 8601 time, compared in UTC.
+
+    Python accepts UTC offsets up to ±24 h but PostgreSQL only ±15:59, so the value is
+    converted to UTC before it reaches the database; a time that cannot be (its UTC
+    equivalent falls outside years 1–9999) is refused with a 400 naming the parameter.
+    """
+
+    def filter(self, qs, value):
+        if value is not None and value.tzinfo is not None:
+            try:
+                value = value.astimezone(dt.UTC)
+            except OverflowError:
+                raise ValidationError(
+                    {self.field_name: "this time is out of range once converted to UTC"}
+                ) from None
+        return super().filter(qs, value)
 
 
 class IdFilter(filters.NumberFilter):
@@ -109,8 +131,8 @@ class FixtureFilter(filters.FilterSet):
 
 class CalibrationFilter(filters.FilterSet):
     fixture = IdFilter(field_name="fixture_id", help_text="fixture id")
-    measured_after = filters.IsoDateTimeFilter(field_name="measured_at", lookup_expr="gte")
-    measured_before = filters.IsoDateTimeFilter(field_name="measured_at", lookup_expr="lte")
+    measured_after = UtcDateTimeFilter(field_name="measured_at", lookup_expr="gte")
+    measured_before = UtcDateTimeFilter(field_name="measured_at", lookup_expr="lte")
 
     class Meta:
         model = Calibration
@@ -126,8 +148,8 @@ class SweepFilter(filters.FilterSet):
     illumination = filters.ChoiceFilter(choices=Illumination.choices)
     temperature_min = FiniteNumberFilter(field_name="temperature_c", lookup_expr="gte")
     temperature_max = FiniteNumberFilter(field_name="temperature_c", lookup_expr="lte")
-    measured_after = filters.IsoDateTimeFilter(field_name="measured_at", lookup_expr="gte")
-    measured_before = filters.IsoDateTimeFilter(field_name="measured_at", lookup_expr="lte")
+    measured_after = UtcDateTimeFilter(field_name="measured_at", lookup_expr="gte")
+    measured_before = UtcDateTimeFilter(field_name="measured_at", lookup_expr="lte")
     archived = filters.BooleanFilter()
 
     class Meta:

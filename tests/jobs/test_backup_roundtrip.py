@@ -20,7 +20,15 @@ def _snapshot():
         with default_storage.open(s.raw_file.name, "rb") as fh:
             disk = hashlib.sha256(fh.read()).hexdigest()
         sweeps[s.pk] = (s.raw_file.name, s.raw_sha256, disk, s.points, s.current_fit_id)
-    fits = {f["id"]: f for f in Fit.objects.order_by("pk").values()}
+    # Users travel by natural key (user name), so their ids may differ after a restore into a
+    # database whose id sequences moved on (PostgreSQL keeps them past rolled-back tests).
+    fits = {
+        f["id"]: f
+        for f in Fit.objects.order_by("pk").values(
+            *[x.attname for x in Fit._meta.concrete_fields if x.name != "created_by"],
+            "created_by__username",
+        )
+    }
     return sweeps, fits
 
 
