@@ -287,8 +287,26 @@ def _fit_one(name, v, cn, w, loss):
             **kw,
         )
 
+    def solve_first(x0):
+        # MINPACK's unbounded LM is several times cheaper than the bounded trust region.
+        # A minimum it finds strictly inside the bounds is a minimum of the bounded problem
+        # too; anything else (a bound reached, no convergence) goes to the bounded solver.
+        if loss == "linear" and np.all(x0 > lo) and np.all(x0 < hi):
+            with np.errstate(all="ignore"):
+                res = least_squares(
+                    lambda x: evaluate(x)["r"],
+                    x0,
+                    jac=lambda x: evaluate(x)["J"],
+                    method="lm",
+                    max_nfev=200,
+                    **_TOL,
+                )
+            if res.status > 0 and np.all(res.x > lo) and np.all(res.x < hi):
+                return res
+        return solve(x0)
+
     cand = core.start_candidates(name, v[None], cn[None], w[None])[0]
-    best = solve(cand[0])
+    best = solve_first(cand[0])
     if core.needs_more_starts(name, best.x[None], np.array([best.status > 0]))[0]:
         for x0 in cand[1:3]:
             res = solve(x0)
