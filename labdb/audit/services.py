@@ -75,12 +75,26 @@ def record_event(
     AuditEvent
         The stored event.
     """
+    event = build_event(action, obj, actor=actor, summary=summary, changes=changes)
+    event.save()
+    return event
+
+
+def build_event(
+    action: str,
+    obj: models.Model,
+    *,
+    actor=None,
+    summary: str = "",
+    changes: dict | None = None,
+) -> AuditEvent:
+    """The unsaved event :func:`record_event` would store (bulk writers save many at once)."""
     if action not in Action.values:
         raise ValueError(f"unknown audit action {action!r}; use one of {Action.values}")
     if actor is None or not getattr(actor, "is_authenticated", False):
         actor = current_user()
     text = summary or f"{action} {obj._meta.verbose_name} {obj}"
-    return AuditEvent.objects.create(
+    return AuditEvent(
         actor=actor,
         actor_name=actor.get_username() if actor is not None else "",
         action=action,
@@ -89,4 +103,24 @@ def record_event(
         summary=text[:300],
         changes=changes or {},
         via=current_via(),
+    )
+
+
+def record_created_many(objs, *, actor=None) -> None:
+    """One "created" event per row inserted by ``bulk_create`` (which sends no signals).
+
+    The events are the ones the model signals would have written row by row.
+    """
+    from labdb.audit.signals import created_changes, stated_actor
+
+    AuditEvent.objects.bulk_create(
+        [
+            build_event(
+                Action.CREATED,
+                obj,
+                actor=actor or stated_actor(obj),
+                changes=created_changes(type(obj), obj),
+            )
+            for obj in objs
+        ]
     )

@@ -43,7 +43,16 @@ def _fields(model, only=None):
         yield f
 
 
-def _stated_actor(instance):
+def created_changes(model, instance) -> dict:
+    """What a "created" event records: every field with a value, JSON-safe."""
+    return {
+        f.name: plain(getattr(instance, f.attname))
+        for f in _fields(model)
+        if getattr(instance, f.attname) not in (None, "", [], {})
+    }
+
+
+def stated_actor(instance):
     for name in ACTOR_FIELDS:
         if getattr(instance, f"{name}_id", None) is not None:
             return getattr(instance, name)
@@ -65,12 +74,8 @@ def _after_save(sender, instance, created, raw=False, update_fields=None, **kwar
     if created:
         if options.get("review_only"):
             return
-        changes = {
-            f.name: plain(getattr(instance, f.attname))
-            for f in _fields(sender)
-            if getattr(instance, f.attname) not in (None, "", [], {})
-        }
-        record_event(Action.CREATED, instance, actor=_stated_actor(instance), changes=changes)
+        changes = created_changes(sender, instance)
+        record_event(Action.CREATED, instance, actor=stated_actor(instance), changes=changes)
         return
     before = getattr(instance, "_audit_before", None)
     if before is None:
@@ -90,7 +95,7 @@ def _after_save(sender, instance, created, raw=False, update_fields=None, **kwar
         record_event(
             Action.REVIEWED,
             instance,
-            actor=_stated_actor(instance),
+            actor=stated_actor(instance),
             summary=f"{state} {sender._meta.verbose_name} {instance}",
             changes=diff,
         )

@@ -26,6 +26,8 @@ from labdb.ingest.units import parse_number, parse_unit
 CONTROL_SHARE = 0.05
 _SEPARATORS = {"\t": "tabs", ";": "semicolons", ",": "commas", " ": "spaces"}
 _SEP_LINE = re.compile(r"^sep=(.)$", re.IGNORECASE)
+#: C0 controls other than tab, LF and CR, DEL, and the C1 controls (U+0080–U+009F)
+_CONTROL_CHARS = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f]")
 
 
 def decode(data: bytes, file: str) -> str:
@@ -51,8 +53,7 @@ def decode(data: bytes, file: str) -> str:
 
 def _check_text(text: str, file: str) -> str:
     text = text.lstrip("\ufeff")
-    control = sum(1 for ch in text if (ord(ch) < 32 and ch not in "\t\n\r") or ch == "\x7f")
-    control += sum(1 for ch in text if 0x80 <= ord(ch) < 0xA0)
+    control = len(_CONTROL_CHARS.findall(text))
     if control > CONTROL_SHARE * max(len(text), 1):
         raise ParseError.at(file, "not a text file (binary?): mostly control characters")
     return text

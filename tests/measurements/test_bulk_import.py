@@ -52,3 +52,33 @@ def test_a_second_bulk_run_reports_duplicates_and_writes_nothing(bench, make_cv)
     again = import_files((d, n, SweepContext()) for d, n in files)
     assert [o.status for o in again] == ["duplicate"] * 3
     assert Fit.objects.filter(sweep__isnull=False).count() == 3
+
+
+def test_a_chunk_is_stored_with_a_handful_of_statements(
+    bench, make_cv, django_assert_max_num_queries
+):
+    files = _files(make_cv, 20)
+    # Per file recording needs about ten statements a file; the chunk writer a fixed few.
+    with django_assert_max_num_queries(15):
+        out = import_files(((d, n, SweepContext()) for d, n in files), recompute=False)
+    assert [o.status for o in out] == ["stored"] * 20
+    assert all(o.sweep.current_fit_id == o.fit.pk and o.fit.version == 1 for o in out)
+
+
+def test_bulk_inserted_rows_are_in_the_audit_trail(bench, make_cv, member):
+    from labdb.audit.models import AuditEvent
+
+    out = import_files(((d, n, SweepContext()) for d, n in _files(make_cv, 3)), user=member)
+    sweep_ids = {str(o.sweep.pk) for o in out}
+    events = AuditEvent.objects.filter(object_type="measurements.sweep", object_id__in=sweep_ids)
+    assert events.count() == 3
+    assert {e.actor_id for e in events} == {member.pk}
+    assert AuditEvent.objects.filter(object_type="catalog.unit", action="created").count() == 3
+
+
+def test_the_same_file_twice_in_one_chunk_is_stored_once(bench, make_cv):
+    data = make_cv(unit="U9")
+    out = import_files([(data, "a.csv", SweepContext()), (data, "b.csv", SweepContext())])
+    assert [o.status for o in out] == ["stored", "duplicate"]
+    assert out[0].sweep.pk == out[1].sweep.pk
+    assert Sweep.objects.count() == 1

@@ -76,6 +76,11 @@ def _fit_chunk(pending: list[_Pending]) -> list[Outcome]:
 
 
 def _store_chunk(pending: list[_Pending], user, origin: str) -> list[Outcome]:
+    from labdb.measurements.services.bulk_insert import insert_chunk
+
+    fast = insert_chunk(pending, user, origin)
+    if fast is not None:
+        return fast
     outcomes: list[Outcome] = []
     try:
         with transaction.atomic():

@@ -48,7 +48,7 @@ def run_fit(bias_v, capacitance_f, model_choice: str) -> JunctionFit:
         raise Rejected(Problem(f"cannot fit: {exc}")) from None
 
 
-def store_fit(
+def build_fit(
     result: JunctionFit,
     *,
     sweep=None,
@@ -58,8 +58,9 @@ def store_fit(
     origin: str,
     user=None,
 ) -> Fit:
+    """The unsaved version :func:`store_fit` stores (the bulk import inserts many at once)."""
     p = result.params
-    return Fit.objects.create(
+    return Fit(
         sweep=sweep,
         lot_summary=lot_summary,
         version=version,
@@ -85,6 +86,30 @@ def store_fit(
         origin=origin,
         created_by=user,
     )
+
+
+def store_fit(
+    result: JunctionFit,
+    *,
+    sweep=None,
+    lot_summary=None,
+    version: int,
+    in_sha: str,
+    origin: str,
+    user=None,
+) -> Fit:
+    """Store one fit version of a sweep or a lot summary."""
+    fit = build_fit(
+        result,
+        sweep=sweep,
+        lot_summary=lot_summary,
+        version=version,
+        in_sha=in_sha,
+        origin=origin,
+        user=user,
+    )
+    fit.save()
+    return fit
 
 
 def _finite_or_none(value):

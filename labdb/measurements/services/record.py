@@ -278,23 +278,25 @@ def keep_raw(
     existing = Sweep.objects.filter(unit=unit, raw_sha256=sha).first()
     if existing is not None:
         return sha, existing.raw_file.name, existing
+    return sha, save_raw(sha, data, raw_name, written), None
+
+
+def save_raw(sha: str, data: bytes, raw_name: str, written: list[str]) -> str:
+    """Store raw bytes content-addressed (once); returns the storage path, noting new files."""
     path = f"raw/{sha[:2]}/{sha}/{_safe_name(raw_name)}"
     if not default_storage.exists(path):
         path = default_storage.save(path, ContentFile(data))
         written.append(path)
-    return sha, path, None
+    return path
 
 
-def _store(prep: _Prepared, data: bytes, raw_name: str, user, origin: str, written: list[str]):
-    """Write one prepared sweep; returns (status, sweep, fit, notes). Inside a transaction."""
-    notes = list(prep.notes)
-    unit = unit_for(prep.part, prep.lot_code, prep.unit_label, notes)
-    sha, path, existing = keep_raw(unit, data, raw_name, written)
-    if existing is not None:
-        return "duplicate", existing, existing.current_fit, notes + ["this file is already stored"]
+def build_sweep(
+    prep: _Prepared, unit: Unit, sha: str, path: str, data: bytes, raw_name: str, user, notes
+) -> Sweep:
+    """The unsaved sweep row of a prepared sweep (the bulk import inserts many at once)."""
     meta = prep.meta
     bias = np.asarray(prep.points["bias_v"])
-    sweep = Sweep.objects.create(
+    return Sweep(
         unit=unit,
         fixture=prep.fixture,
         kind=prep.parsed.kind,
@@ -319,6 +321,17 @@ def _store(prep: _Prepared, data: bytes, raw_name: str, user, origin: str, writt
         metadata=_jsonable(meta),
         uploaded_by=user,
     )
+
+
+def _store(prep: _Prepared, data: bytes, raw_name: str, user, origin: str, written: list[str]):
+    """Write one prepared sweep; returns (status, sweep, fit, notes). Inside a transaction."""
+    notes = list(prep.notes)
+    unit = unit_for(prep.part, prep.lot_code, prep.unit_label, notes)
+    sha, path, existing = keep_raw(unit, data, raw_name, written)
+    if existing is not None:
+        return "duplicate", existing, existing.current_fit, notes + ["this file is already stored"]
+    sweep = build_sweep(prep, unit, sha, path, data, raw_name, user, notes)
+    sweep.save()
     fit = fit_sweep(
         sweep, model=prep.model, origin=origin, user=user, result=prep.result, new_sweep=True
     )
