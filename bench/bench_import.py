@@ -142,7 +142,8 @@ def main() -> None:
             )
             targets.append(("PostgreSQL", PG_URL))
         print(
-            f"{'database':<11} {'files':>6} {'import_sweeps files/s':>22} {'upload page files/s':>20}"
+            f"{'database':<11} {'files':>6} {'import files/s':>15} {'+ lot recompute':>16} "
+            f"{'upload page files/s':>20}"
         )
         for name, url in targets:
             out = subprocess.run(

@@ -20,6 +20,7 @@ from __future__ import annotations
 import re
 from collections.abc import Mapping
 from datetime import UTC, date, datetime
+from functools import lru_cache
 from typing import Any
 
 from labdb.ingest.errors import Issue
@@ -72,9 +73,14 @@ _LOOKUP = {alias: field for field, aliases in KEY_ALIASES.items() for alias in a
 _DIRECTIVES = {alias: d for d, aliases in DIRECTIVE_ALIASES.items() for alias in aliases}
 
 
+_SQUASH = re.compile(r"[\s_\-.]+")
+
+
+@lru_cache(maxsize=4096)
 def squash_key(key: str) -> str:
     """Lower-case a key and drop spaces, underscores, hyphens and dots."""
-    return re.sub(r"[\s_\-.]+", "", key.strip().lower())
+    # Cached: a bulk import asks the same few header and key names thousands of times.
+    return _SQUASH.sub("", key.strip().lower())
 
 
 def field_for(key: str) -> str | None:

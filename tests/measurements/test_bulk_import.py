@@ -82,3 +82,21 @@ def test_the_same_file_twice_in_one_chunk_is_stored_once(bench, make_cv):
     assert [o.status for o in out] == ["stored", "duplicate"]
     assert out[0].sweep.pk == out[1].sweep.pk
     assert Sweep.objects.count() == 1
+
+
+def test_impedance_files_in_a_bulk_import_go_to_the_impedance_path(bench, make_cv):
+    from labdb.measurements.models import Fixture
+
+    Fixture.objects.create(name="analyser A", kind="meter")
+    # A series R–C table (R 0.5 Ω, C 40 pF; hand-written values) with no bias column.
+    rows = "".join(
+        f"{f / 1e6:.6f},0.5,{-1 / (2 * 3.141592653589793 * f * 40e-12):.6f}\n"
+        for f in (1e6, 2e6, 5e6, 1e7, 2e7, 5e7)
+    )
+    table = (
+        "# part: TST-V1\n# lot: L1\n# unit: Z1\n# fixture: analyser A\n# bias: 2 V\n"
+        "f (MHz),R (ohm),X (ohm)\n" + rows
+    ).encode()
+    out = import_files([(make_cv(), "cv.csv", SweepContext()), (table, "z.csv", SweepContext())])
+    assert [o.status for o in out] == ["stored", "stored"], [o.problems for o in out]
+    assert [o.sweep.kind for o in out] == ["cv", "zf"]

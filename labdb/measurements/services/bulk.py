@@ -14,6 +14,7 @@ from django.core.files.storage import default_storage
 from django.db import transaction
 
 from labdb.ingest.impedance import is_impedance_file
+from labdb.ingest.touchstone import port_count
 from labdb.measurements.errors import Rejected
 from labdb.measurements.models import Sweep
 from labdb.measurements.services.fits import MODEL_CHOICES
@@ -128,15 +129,23 @@ def import_files(
 
     for data, name, ctx in items:
         done += 1
-        if name.lower().endswith(ARCHIVE_SUFFIXES) or is_impedance_file(data, name):
+        if name.lower().endswith(ARCHIVE_SUFFIXES) or port_count(name) is not None:
             flush()
             outcomes += record_file(data, name, ctx, user=user, origin=origin, recompute=False)
         else:
             try:
                 sweeps = _parse(data, name)
             except Rejected as exc:
-                outcomes.append(Outcome(name, "rejected", problems=exc.problems))
                 sweeps = []
+                # An impedance table is no bias sweep, so the bias-sweep parser refuses it;
+                # only then is it worth sniffing (most bench files parse at the first try).
+                if is_impedance_file(data, name):
+                    flush()
+                    outcomes += record_file(
+                        data, name, ctx, user=user, origin=origin, recompute=False
+                    )
+                else:
+                    outcomes.append(Outcome(name, "rejected", problems=exc.problems))
             sources = [_label(name, s) for s in sweeps]
             try:
                 prepared = [_prepare(s, ctx, name, fit=False, cache=cache) for s in sweeps]
