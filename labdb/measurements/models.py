@@ -199,7 +199,30 @@ class ImmutableError(Exception):
     """Raised when code tries to change a stored fit version."""
 
 
-class Fit(models.Model):
+class FitVersion(models.Model):
+    """What every stored fit version records besides its parameters, and its immutability."""
+
+    converged = models.BooleanField()
+    message = models.CharField(max_length=300, blank=True)
+    warnings = models.JSONField(default=list)
+    fitter_version = models.CharField(max_length=40)
+    input_sha256 = models.CharField(max_length=64)
+    origin = models.CharField(max_length=12, choices=FitOrigin.choices)
+    created_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.SET_NULL, related_name="+"
+    )
+    created_at = models.DateTimeField(auto_now_add=True)
+
+    class Meta:
+        abstract = True
+
+    def save(self, *args, **kwargs):
+        if self.pk is not None and not self._state.adding:
+            raise ImmutableError("a fit version is never changed; refit to write a new version")
+        super().save(*args, **kwargs)
+
+
+class Fit(FitVersion):
     """An immutable, numbered version of a junction model of a sweep or of a lot summary."""
 
     sweep = models.ForeignKey(
@@ -224,16 +247,6 @@ class Fit(models.Model):
     n_points = models.PositiveIntegerField()
     bias_min_v = models.FloatField()
     bias_max_v = models.FloatField()
-    converged = models.BooleanField()
-    message = models.CharField(max_length=300, blank=True)
-    warnings = models.JSONField(default=list)
-    fitter_version = models.CharField(max_length=40)
-    input_sha256 = models.CharField(max_length=64)
-    origin = models.CharField(max_length=12, choices=FitOrigin.choices)
-    created_by = models.ForeignKey(
-        settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.SET_NULL, related_name="+"
-    )
-    created_at = models.DateTimeField(auto_now_add=True)
 
     class Meta:
         ordering = ["-version"]
@@ -266,16 +279,11 @@ class Fit(models.Model):
         )
         return f"fit v{self.version} of {subject}"
 
-    def save(self, *args, **kwargs):
-        if self.pk is not None and not self._state.adding:
-            raise ImmutableError("a fit version is never changed; refit to write a new version")
-        super().save(*args, **kwargs)
-
     def get_absolute_url(self) -> str:
         return reverse("fit-detail", args=[self.pk])
 
 
-class ImpedanceFit(models.Model):
+class ImpedanceFit(FitVersion):
     """An immutable, numbered version of the series R–L–C equivalent of an impedance sweep."""
 
     sweep = models.ForeignKey(Sweep, on_delete=models.PROTECT, related_name="impedance_fits")
@@ -290,16 +298,6 @@ class ImpedanceFit(models.Model):
     n_points = models.PositiveIntegerField()
     frequency_min_hz = models.FloatField()
     frequency_max_hz = models.FloatField()
-    converged = models.BooleanField()
-    message = models.CharField(max_length=300, blank=True)
-    warnings = models.JSONField(default=list)
-    fitter_version = models.CharField(max_length=40)
-    input_sha256 = models.CharField(max_length=64)
-    origin = models.CharField(max_length=12, choices=FitOrigin.choices)
-    created_by = models.ForeignKey(
-        settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.SET_NULL, related_name="+"
-    )
-    created_at = models.DateTimeField(auto_now_add=True)
 
     class Meta:
         ordering = ["-version"]
@@ -318,11 +316,6 @@ class ImpedanceFit(models.Model):
 
     def __str__(self) -> str:
         return f"impedance fit v{self.version} of sweep {self.sweep_id}"
-
-    def save(self, *args, **kwargs):
-        if self.pk is not None and not self._state.adding:
-            raise ImmutableError("a fit version is never changed; refit to write a new version")
-        super().save(*args, **kwargs)
 
     def as_physics(self):
         """The stored fit as :class:`labdb.physics.impedance.SeriesRLCFit`."""
