@@ -54,3 +54,15 @@ def test_unchanged_lots_get_no_new_version_and_changed_ones_do(part, lot, add_sw
         1,
         2,
     ]
+
+
+def test_every_lot_model_version_has_one_created_event(part, lot, add_sweep):
+    # The lot models are inserted together; each still gets the event a save would write.
+    from labdb.audit.models import AuditEvent
+
+    add_sweep(Unit.objects.create(lot=lot, label="U06"), 60e-12)
+    recompute_part(part)
+    ids = [str(pk) for pk in Fit.objects.filter(lot_summary__lot=lot).values_list("pk", flat=True)]
+    events = AuditEvent.objects.filter(object_type="measurements.fit", object_id__in=ids)
+    assert len(ids) == 2
+    assert sorted(events.values_list("object_id", "action")) == sorted((i, "created") for i in ids)

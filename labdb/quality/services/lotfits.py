@@ -4,9 +4,10 @@ from __future__ import annotations
 
 import numpy as np
 
+from labdb.audit.services import record_created_many
 from labdb.measurements.errors import Rejected
 from labdb.measurements.models import Fit, FitOrigin
-from labdb.measurements.services.fits import input_hash, points_hash, run_fit, store_fit
+from labdb.measurements.services.fits import build_fit, input_hash, points_hash, run_fit
 from labdb.physics import PhysicsInputError, fit_junction_batch
 from labdb.physics.fitting import MIN_SPAN_V
 
@@ -52,15 +53,20 @@ def fit_lot_models(summaries: list) -> tuple[int, list[str]]:
         latest.setdefault(sid, (version, sha))
     todo = [t for t in todo if latest.get(t[0].pk, (0, None))[1] != t[3]]
     results = _fit_all([t[1] for t in todo], [t[2] for t in todo])
-    written, failures = 0, []
+    fits, failures = [], []
     for (s, _, _, sha), result in zip(todo, results, strict=True):
         if isinstance(result, str):
             failures.append(f"lot {s.lot_id} ({s.illumination}, {s.temperature_c:g} °C): {result}")
             continue
         version = latest.get(s.pk, (0, None))[0] + 1
-        store_fit(result, lot_summary=s, version=version, in_sha=sha, origin=FitOrigin.LOT)
-        written += 1
-    return written, failures
+        fits.append(
+            build_fit(result, lot_summary=s, version=version, in_sha=sha, origin=FitOrigin.LOT)
+        )
+    # One INSERT for every version (and one for their audit events): a full recomputation
+    # of a part writes hundreds, and row-by-row saves were a third of its time.
+    Fit.objects.bulk_create(fits)
+    record_created_many(fits)
+    return len(fits), failures
 
 
 def _fit_all(grids: list[np.ndarray], curves: list[np.ndarray]) -> list:
