@@ -96,6 +96,8 @@ def is_generated(n_parts: int, n_lots: int, n_units: int) -> bool:
         Part.objects.filter(part_number__startswith=PREFIX).count() == n_parts
         and LotSummary.objects.count() == n_parts * n_lots
         and Fit.objects.filter(sweep__isnull=False).count() == n_parts * n_lots * n_units
+        # Generated before summaries kept their unit fits: generate again.
+        and not LotSummary.objects.filter(unit_fits=[]).exists()
     )
 
 
@@ -395,6 +397,8 @@ def _copy_summaries(
             "bias_min_v",
             "bias_max_v",
             "band",
+            "newest_in_condition",
+            "unit_fits",
         ],
     ).copy(
         raw,
@@ -418,5 +422,32 @@ def _copy_summaries(
             "bias_min_v": [0.0] * n_l,
             "bias_max_v": reach.tolist(),
             "band": bands,
+            "newest_in_condition": _newest_marks(ids, part_of_lot, received_iso),
+            "unit_fits": [
+                [
+                    [lot * n_units + k + 1, f"U{k + 1:02d}", *params]
+                    for k, params in enumerate(zip(*rows, strict=True))
+                ]
+                for lot, rows in enumerate(
+                    zip(cjo.tolist(), vj.tolist(), m.tolist(), cp.tolist(), strict=True)
+                )
+            ],
         },
     )
+
+
+def _newest_marks(ids, part_of_lot, received_iso) -> list[bool]:
+    """Each summary's newest-lot mark (one condition set), by the quality service's rule."""
+    from labdb.quality.services.newest import newest_rows
+
+    rows = zip(
+        ids,
+        part_of_lot.tolist(),
+        ids,
+        ["dark"] * len(ids),
+        [25.0] * len(ids),
+        [dt.date.fromisoformat(r) for r in received_iso],
+        strict=True,
+    )
+    newest = newest_rows(rows)
+    return [i in newest for i in ids]

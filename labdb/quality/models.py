@@ -32,6 +32,12 @@ class LotSummary(models.Model):
     )
     illumination = models.CharField(max_length=16)
     temperature_c = models.FloatField(help_text="Centre of the temperature band [°C].")
+    # Kept by labdb.quality.services.newest whenever a part's summaries or lots change.
+    newest_in_condition = models.BooleanField(
+        default=False,
+        help_text="No later lot of the part has a summary under the same illumination and "
+        "temperature band (search's 'latest lot' starts from these rows).",
+    )
     n_units = models.PositiveIntegerField()
     n_sweeps = models.PositiveIntegerField()
     cjo_med = models.FloatField()
@@ -46,6 +52,9 @@ class LotSummary(models.Model):
     bias_max_v = models.FloatField(help_text="Common measured range: lowest unit maximum.")
     figures = models.JSONField(default=dict)
     band = models.JSONField(default=dict)
+    # [[unit id, label, CJO, VJ, M, CP], ...]: each unit's most recent fit in this condition
+    # set, so search judges a page of lots' units without reading a million sweep rows.
+    unit_fits = models.JSONField(default=list)
     # What judging other lots and listing findings needs (medians, spreads, the judged unit
     # values, between-lot results, units that may raise a flag): small, so a new lot's
     # evaluation reads this for every earlier lot instead of their full ``figures``.
@@ -88,6 +97,26 @@ class LotSummary(models.Model):
                     "cp_med",
                 ],
                 name="summary_search_cover_idx",
+            ),
+            # Search's "latest lot": the same columns over the one newest summary per part
+            # and condition set, a tenth of the rows.
+            models.Index(
+                fields=[
+                    "illumination",
+                    "temperature_c",
+                    "part",
+                    "received_on",
+                    "lot",
+                    "n_units",
+                    "bias_min_v",
+                    "bias_max_v",
+                    "cjo_med",
+                    "vj_med",
+                    "m_med",
+                    "cp_med",
+                ],
+                condition=Q(newest_in_condition=True),
+                name="summary_search_newest_idx",
             ),
         ]
 

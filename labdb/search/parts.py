@@ -14,6 +14,7 @@ import statistics
 from collections import defaultdict
 from dataclasses import dataclass
 
+import numpy as np
 from django.db.models import (
     Avg,
     BooleanField,
@@ -32,15 +33,14 @@ from django.db.models import (
 
 from labdb.catalog.models import Part
 from labdb.quality.models import Flag, FlagState
-from labdb.search.expressions import as_float, const, junction_c, lot_c
+from labdb.search.expressions import as_float, const, lot_c
 from labdb.search.queries import SearchQuery
 from labdb.search.results import LotFigures, PartHit, SearchPage, UnitSpread
 from labdb.search.rows import (
     condition_rows,
-    newest_per_unit,
     spans,
     summaries,
-    unit_fit_rows,
+    unit_capacitances,
     unlinked_summaries,
 )
 
@@ -212,6 +212,7 @@ def _refine(q: SearchQuery, page_ids: list[int]) -> list[PartHit]:
     )
     lots_by_part: dict[int, list[LotFigures]] = defaultdict(list)
     left_out: dict[int, int] = defaultdict(int)
+    counted: list[dict] = []
     rows = search_rows(q).filter(part_id__in=page_ids).order_by("received_on", "lot_id")
     for r in rows.values(
         "lot_id",
@@ -230,12 +231,14 @@ def _refine(q: SearchQuery, page_ids: list[int]) -> list[PartHit]:
         "bias_min_v",
         "bias_max_v",
         "spans",
+        "unit_fits",
     ):
         if not r["spans"] and not q.include_extrapolated:
             left_out[r["part_id"]] += 1
             continue
         lots_by_part[r["part_id"]].append(_lot(r))
-    units = _unit_spread(q, lots_by_part)
+        counted.append(r)
+    units = _unit_spread(q, parts, counted)
     # A part whose lots changed between the two queries (a recomputation committed in
     # between) has nothing left to show; it is skipped rather than shown half-empty.
     return [
@@ -262,38 +265,45 @@ def _lot(r: dict) -> LotFigures:
     )
 
 
-def _unit_spread(q: SearchQuery, lots_by_part: dict[int, list[LotFigures]]):
-    """Per part: units meeting the minimum swing, and the worst unit, from current fits."""
-    lot_part = {lot.lot_id: pid for pid, lots in lots_by_part.items() for lot in lots}
-    lot_code = {lot.lot_id: lot.code for lots in lots_by_part.values() for lot in lots}
-    v1, v2 = window(q, "unit__lot__part")
-    fit = "current_fit__"
-    rows = (
-        unit_fit_rows(lot_part, q)
-        .annotate(
-            u1=as_float(junction_c(v1, fit + "cjo", fit + "vj", fit + "m", fit + "cp")),
-            u2=as_float(junction_c(v2, fit + "cjo", fit + "vj", fit + "m", fit + "cp")),
-        )
-        .values_list("id", "unit_id", "measured_at", "unit__label", "unit__lot_id", "u1", "u2")
+def _unit_spread(q: SearchQuery, parts: dict, rows: list[dict]):
+    """Per part: units meeting the minimum swing, and the worst unit, from the unit fits the
+    counted lots' summaries hold (each unit's most recent fit)."""
+    lot_ids, labels, c1, c2 = unit_capacitances(
+        (r["lot_id"], r["unit_fits"], _window_of(q, parts[r["part_id"]])) for r in rows
     )
-    swings: dict[int, list[tuple[float, str]]] = defaultdict(list)
-    for _, _, _, label, lot_id, u1, u2 in newest_per_unit(rows):
-        swings[lot_part[lot_id]].append((u1 / u2, f"lot {lot_code[lot_id]} unit {label}"))
+    swing = c1 / c2
+    part_of = {r["lot_id"]: r["part_id"] for r in rows}
+    code_of = {r["lot_id"]: r["lot__code"] for r in rows}
+    owner = np.array([part_of[lot] for lot in lot_ids], dtype=np.int64)
     out = {}
-    for pid in lots_by_part:
-        s = swings.get(pid, [])
-        worst = min(s, default=(None, "—"))
-        meeting = None if q.min_swing is None else sum(1 for x, _ in s if x >= q.min_swing)
+    for pid in set(part_of.values()):
+        (mine,) = np.nonzero(owner == pid)
+        if mine.size == 0:
+            out[pid] = UnitSpread(
+                n_units=0, n_meeting=None if q.min_swing is None else 0, worst="—", worst_swing=None
+            )
+            continue
+        k = int(mine[np.argmin(swing[mine])])
         out[pid] = UnitSpread(
-            n_units=len(s), n_meeting=meeting, worst=worst[1], worst_swing=worst[0]
+            n_units=int(mine.size),
+            n_meeting=None if q.min_swing is None else int((swing[mine] >= q.min_swing).sum()),
+            worst=f"lot {code_of[lot_ids[k]]} unit {labels[k]}",
+            worst_swing=float(swing[k]),
         )
     return out
+
+
+def _window_of(q: SearchQuery, part: dict) -> tuple[float, float]:
+    """The bias window [V] a part is judged over: the query's, or the part's own."""
+    if q.own_window:
+        return part["ref_bias_low_v"], part["ref_bias_high_v"]
+    return q.v1_v, q.v2_v
 
 
 def _hit(q, part: dict, lots: list[LotFigures], units: UnitSpread, flags: int, left: int):
     worst = min(lots, key=lambda lot: lot.swing)
     dated = [lot.received_on for lot in lots if lot.received_on is not None]
-    v1, v2 = (part["ref_bias_low_v"], part["ref_bias_high_v"]) if q.own_window else (q.v1_v, q.v2_v)
+    v1, v2 = _window_of(q, part)
     warnings = []
     rated = part["rated_reverse_v"]
     if rated is not None and v2 > rated:

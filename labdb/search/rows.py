@@ -9,11 +9,13 @@ from __future__ import annotations
 
 import datetime as dt
 
+import numpy as np
 from django.db.models import Exists, F, OuterRef, Q, QuerySet, Value
 from django.db.models.functions import Coalesce
 
-from labdb.measurements.models import Sweep
+from labdb.catalog.models import Part
 from labdb.quality.models import Flag, FlagState, LotSummary
+from labdb.quality.services.curves import capacitance_many
 from labdb.search.expressions import const
 from labdb.search.queries import PartFilter
 
@@ -21,7 +23,6 @@ from labdb.search.queries import PartFilter
 #: supply's resolution, so a window equal to the measured range never counts as extrapolating.
 EDGE_SLACK_V = 1e-6
 _EARLIEST = dt.date(1, 1, 1)
-_OLDEST = dt.datetime.min
 
 
 def open_flags(part_ref: str = "part") -> QuerySet:
@@ -40,20 +41,31 @@ def condition_rows(q: PartFilter) -> QuerySet:
         illumination=q.illumination,
         temperature_c__gte=q.temp_min_c,
         temperature_c__lte=q.temp_max_c,
-        part__archived=False,
+        part__isnull=False,
     )
+    # Part filters as subqueries on the summary's part id, not a join: archived parts are
+    # few, so "not among them" is a small hashed lookup per row where a join would hash
+    # every part first (a third of the ranking pass at ten thousand parts).
+    rows = rows.exclude(part_id__in=Part.objects.filter(archived=True).values("pk"))
+    wanted = Q()
     if q.kind:
-        rows = rows.filter(part__kind=q.kind)
+        wanted &= Q(kind=q.kind)
     if q.text:
-        rows = rows.filter(
-            Q(part__part_number__icontains=q.text) | Q(part__description__icontains=q.text)
-        )
+        wanted &= Q(part_number__icontains=q.text) | Q(description__icontains=q.text)
+    if wanted:
+        rows = rows.filter(part_id__in=Part.objects.filter(wanted).values("pk"))
     if q.exclude_flagged:
         rows = rows.filter(~Exists(open_flags()))
     if q.lots == "since":
         rows = rows.filter(received_on__gte=q.since)
     elif q.lots == "latest":
-        rows = rows.annotate(received=_received()).filter(~Exists(_later_rows(q)))
+        # The newest lot over a temperature range is the newest of its own band, so only
+        # rows marked newest in their band compete (a tenth of the rows, on their own index).
+        rows = (
+            rows.filter(newest_in_condition=True)
+            .annotate(received=_received())
+            .filter(~Exists(_later_rows(q)))
+        )
     return rows
 
 
@@ -75,6 +87,9 @@ def _received():
 def _later_rows(q: PartFilter) -> QuerySet:
     """Summaries under the same conditions of a later lot of the same part.
 
+    Only rows marked newest in their band count: if any later row exists in the range, the
+    newest row of its band is later still, and marked.
+
     "Later" orders lots by receipt date, then by id (the later-registered lot wins a tie).
     PostgreSQL plans the NOT EXISTS as a hash anti-join on the part.
     """
@@ -84,6 +99,7 @@ def _later_rows(q: PartFilter) -> QuerySet:
             illumination=q.illumination,
             temperature_c__gte=q.temp_min_c,
             temperature_c__lte=q.temp_max_c,
+            newest_in_condition=True,
         )
         .annotate(received=_received())
         .filter(
@@ -101,29 +117,28 @@ def spans(v_low, v_high) -> Q:
     )
 
 
-def unit_fit_rows(lot_ids, q: PartFilter) -> QuerySet:
-    """Current unit fits of the given lots under the query's conditions, one row per sweep."""
-    return Sweep.objects.filter(
-        unit__lot_id__in=list(lot_ids),
-        unit__archived=False,
-        archived=False,
-        illumination=q.illumination,
-        temperature_c__gte=q.temp_min_c,
-        temperature_c__lte=q.temp_max_c,
-        current_fit__isnull=False,
-    )
+def unit_capacitances(lots) -> tuple[list[int], list[str], np.ndarray, np.ndarray]:
+    """Each unit's capacitance at two biases, from the lot summaries' unit fits.
 
+    Parameters
+    ----------
+    lots : iterable of (lot id, unit_fits, (bias_a, bias_b))
+        ``unit_fits`` as a summary stores it ([unit id, label, CJO, VJ, M, CP] per unit, each
+        unit's most recent fit under the summary's conditions); biases [V], reverse positive.
 
-def newest_per_unit(rows) -> list[tuple]:
-    """Keep each unit's most recent sweep.
-
-    ``rows`` are tuples starting (sweep id, unit id, measured_at, ...); a sweep without a
-    measurement time counts as older than any with one, and the later id wins a tie.
+    Returns
+    -------
+    lot_ids, labels : list, length n
+        Each unit's lot and label.
+    c_a, c_b : ndarray, shape (n,)
+        Capacitance [F] at bias_a and bias_b, from the physics core's formula, evaluated for
+        every unit in one array operation.
     """
-    best: dict[int, tuple] = {}
-    keys: dict[int, tuple] = {}
-    for r in rows:
-        key = (r[2] is not None, r[2] or _OLDEST, r[0])
-        if r[1] not in keys or key > keys[r[1]]:
-            best[r[1]], keys[r[1]] = r, key
-    return list(best.values())
+    flat = [(lot_id, u, window) for lot_id, fits, window in lots for u in fits]
+    if not flat:
+        empty = np.empty(0)
+        return [], [], empty, empty
+    params = np.array([u[2:6] for _, u, _ in flat], dtype=float)
+    bias = np.array([w for _, _, w in flat], dtype=float)
+    c = capacitance_many(bias, *params.T)
+    return [f[0] for f in flat], [f[1][1] for f in flat], c[:, 0], c[:, 1]

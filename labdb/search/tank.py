@@ -20,15 +20,14 @@ from django.db.models.functions import Least, Sqrt
 
 from labdb.catalog.models import Part
 from labdb.physics import band_coverage, fixed_capacitance_to_centre
-from labdb.search.expressions import as_float, branch_c, const, junction_c, lot_c
+from labdb.search.expressions import as_float, branch_c, const, lot_c
 from labdb.search.queries import TankQuery
 from labdb.search.results import Suggestion, TankCandidate, TankLot, TankResult
 from labdb.search.rows import (
     condition_rows,
-    newest_per_unit,
     spans,
     summaries,
-    unit_fit_rows,
+    unit_capacitances,
     unlinked_summaries,
 )
 
@@ -251,9 +250,10 @@ def _refine(q: TankQuery, rows, ids: list[int]) -> list[TankCandidate]:
         "cp_med",
         "cover",
         "spans",
+        "unit_fits",
     ):
         by_part[r["part_id"]].append(r)
-    units = _unit_margins(q, [r["lot_id"] for rs in by_part.values() for r in rs])
+    units = _unit_margins(q, [r for rs in by_part.values() for r in rs])
     out = []
     for pid in ids:
         lots = tuple(
@@ -319,31 +319,28 @@ def thomson_hz(inductance_h: float, capacitance_f: float) -> float:
     return 1.0 / (TWO_PI * math.sqrt(inductance_h * capacitance_f))
 
 
-def _unit_margins(q: TankQuery, lot_ids: list[int]):
-    """Per lot: (margin, unit label, (f at bias_min, f at bias_max) [Hz]) of each unit fit.
+def _unit_margins(q: TankQuery, rows: list[dict]):
+    """Per lot: (margin, unit label, (f at bias_min, f at bias_max) [Hz]) of each unit.
 
-    The database gives each unit fit's total tank capacitance at both ends of the bias
-    range (the same expressions as for lot medians); the margins follow from Thomson's
-    formula here.
+    From the unit fits the lots' summaries hold (each unit's most recent fit): junction
+    capacitance at both ends of the bias range, the tank's total capacitance, and Thomson's
+    formula.
     """
-    fit = "current_fit__"
-    cols = (fit + "cjo", fit + "vj", fit + "m", fit + "cp")
-    fixed = const(q.fixed_f)
-    rows = (
-        unit_fit_rows(lot_ids, q)
-        .annotate(
-            ct_a=as_float(fixed + branch_c(junction_c(const(q.bias_min_v), *cols), q.coupling_f)),
-            ct_b=as_float(fixed + branch_c(junction_c(const(q.bias_max_v), *cols), q.coupling_f)),
-        )
-        .values_list("id", "unit_id", "measured_at", "unit__label", "unit__lot_id", "ct_a", "ct_b")
+    lot_ids, labels, c_a, c_b = unit_capacitances(
+        (r["lot_id"], r["unit_fits"], (q.bias_min_v, q.bias_max_v)) for r in rows
     )
     out: dict[int, list] = defaultdict(list)
-    for _, _, _, label, lot_id, ct_a, ct_b in newest_per_unit(rows):
-        fa = thomson_hz(q.inductance_h, ct_a)
-        fb = thomson_hz(q.inductance_h, ct_b)
+    for lot_id, label, ca, cb in zip(lot_ids, labels, c_a.tolist(), c_b.tolist(), strict=True):
+        fa = thomson_hz(q.inductance_h, q.fixed_f + _branch(ca, q.coupling_f))
+        fb = thomson_hz(q.inductance_h, q.fixed_f + _branch(cb, q.coupling_f))
         margin = min(q.f_low_hz / fa, fb / q.f_high_hz)
         out[lot_id].append((margin, f"unit {label}", (fa, fb)))
     return out
+
+
+def _branch(cj: float, coupling_f: float | None) -> float:
+    """The junction as the tank sees it: C_j, or C_j·Cc/(C_j + Cc) through a coupling Cc."""
+    return cj if coupling_f is None else cj * coupling_f / (cj + coupling_f)
 
 
 def _warnings(q: TankQuery, totals: _Totals, candidates: list[TankCandidate]) -> list[str]:

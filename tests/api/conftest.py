@@ -221,11 +221,14 @@ class Stock:
 
         from labdb.catalog.models import Lot
         from labdb.quality.models import LotSummary
+        from labdb.quality.services.newest import refresh_part_copies
 
         lot = Lot.objects.create(part=part, code=code)
         for i, params in enumerate(units, 1):
             self._unit_fit(lot, f"U{i:02d}", params, measured)
         med = np.median(np.asarray(units, dtype=float), axis=0)
+        ids = dict(lot.units.values_list("label", "pk"))
+        unit_fits = [[ids[f"U{i:02d}"], f"U{i:02d}", *p] for i, p in enumerate(units, 1)]
         LotSummary.objects.create(
             lot=lot,
             part=part,
@@ -240,7 +243,9 @@ class Stock:
             cp_med=med[3],
             bias_min_v=measured[0],
             bias_max_v=measured[1],
+            unit_fits=unit_fits,
         )
+        refresh_part_copies([part.pk])  # the newest-lot mark, as a recomputation keeps it
         return lot
 
     def _unit_fit(self, lot, label, params, measured):

@@ -130,13 +130,18 @@ class Stock:
 
         a = np.asarray(unit_params, dtype=float)
         med = np.median(a, axis=0)
+        ids = dict(lot.units.values_list("label", "pk"))
+        # Each unit's fit as the quality service keeps it on the summary (labels as lot() gives).
+        unit_fits = [[ids[f"U{i:02d}"], f"U{i:02d}", *map(float, p)] for i, p in enumerate(a, 1)]
         lo, hi = part.ref_bias_low_v, part.ref_bias_high_v
         c_lo = c_hi = swing = None
         if lo is not None and hi is not None:
             c_lo = _junction(lo, *a.T)
             c_hi = _junction(hi, *a.T)
             swing = c_lo / c_hi
-        return LotSummary.objects.create(
+        from labdb.quality.services.newest import refresh_part_copies
+
+        summary = LotSummary.objects.create(
             lot=lot,
             part=part,
             received_on=lot.received_on,
@@ -154,7 +159,10 @@ class Stock:
             swing_min=None if swing is None else float(swing.min()),
             bias_min_v=measured[0],
             bias_max_v=measured[1],
+            unit_fits=unit_fits,
         )
+        refresh_part_copies([part.pk])  # the newest-lot mark, as a recomputation keeps it
+        return summary
 
 
 @pytest.fixture(autouse=True)

@@ -60,3 +60,22 @@ def test_a_lot_without_a_receipt_date_is_never_the_latest(stock, day):
     hit = search_parts(SearchQuery(v1_v=1.0, v2_v=10.0, lots="latest")).hits[0]
     assert [lot.code for lot in hit.lots] == ["DATED"]
     assert hit.latest_received == day(1)
+
+
+def test_latest_over_a_temperature_range_spans_its_bands(old_weak_new_strong, stock, day):
+    # NEWER is the newest lot of the 30 °C band only; over 20–30 °C it is the latest of all,
+    # so it displaces NEW (the newest of the 25 °C band). Common practice, no source.
+    stock.lot(old_weak_new_strong, "NEWER", WEAK, received=day(300), temperature_c=30.0)
+    hit = search_parts(SearchQuery(v1_v=1.0, v2_v=10.0, lots="latest")).hits[0]
+    assert [lot.code for lot in hit.lots] == ["NEWER"]
+    # Over 20–27 °C the 30 °C band is left out and NEW is the latest again.
+    hit = search_parts(SearchQuery(v1_v=1.0, v2_v=10.0, lots="latest", temp_max_c=27.0)).hits[0]
+    assert [lot.code for lot in hit.lots] == ["NEW"]
+
+
+def test_equal_receipt_dates_go_to_the_lot_registered_later(stock, day):
+    part = stock.part("LC-3")
+    stock.lot(part, "FIRST", WEAK, received=day(7))
+    stock.lot(part, "SECOND", STRONG, received=day(7))
+    hit = search_parts(SearchQuery(v1_v=1.0, v2_v=10.0, lots="latest")).hits[0]
+    assert [lot.code for lot in hit.lots] == ["SECOND"]

@@ -26,13 +26,26 @@ def test_the_fraction_of_units_and_the_worst_unit_come_from_unit_fits(stock):
     assert hit.units.worst_swing == pytest.approx(swing(0.40), rel=1e-12)
 
 
-def test_only_the_newest_sweep_of_a_unit_counts(stock):
-    part = stock.part("US-2")
-    lot = stock.lot(part, "A", (50e-12, 0.7, 0.5, 0.0), n_units=1)
-    stock.unit_fit(lot, "U01", (50e-12, 0.7, 0.3, 0.0))  # a later sweep of the same unit
+def test_a_unit_counts_with_its_most_recent_sweep(bench, make_cv):
+    # Recorded and summarised for real: U1 measured twice at the same time, M 0.5 then 0.3;
+    # the sweep stored later wins the tie.
+    from labdb.measurements.models import Sweep
+    from labdb.measurements.services import record_file
+    from labdb.quality.services import recompute_lots
+
+    for m in (0.5, 0.3):
+        assert record_file(make_cv(m=m), f"U1-{m}.csv", recompute=False)[0].status == "stored"
+    recompute_lots([bench.lot.pk])
     hit = search_parts(SearchQuery(v1_v=1.0, v2_v=9.0)).hits[0]
     assert hit.units.n_units == 1
-    assert hit.units.worst_swing == pytest.approx(swing(0.3), rel=1e-12)
+    # The fit recovers the file's curve to its 6 printed digits.
+    assert hit.units.worst_swing == pytest.approx(swing(0.3), rel=1e-4)
+    # The first sweep turns out to be measured later: it is now the unit's most recent.
+    first = Sweep.objects.order_by("pk").first()
+    Sweep.objects.filter(pk=first.pk).update(measured_at=first.measured_at.replace(hour=23))
+    recompute_lots([bench.lot.pk])
+    hit = search_parts(SearchQuery(v1_v=1.0, v2_v=9.0)).hits[0]
+    assert hit.units.worst_swing == pytest.approx(swing(0.5), rel=1e-4)
 
 
 def test_unit_fits_under_other_conditions_do_not_count(stock):

@@ -25,6 +25,7 @@ from labdb.quality.services.conditions import condition_key, reference_window, t
 from labdb.quality.services.curves import rise_checks
 from labdb.quality.services.flags import json_safe, sync_flags
 from labdb.quality.services.lotfits import fit_lot_models
+from labdb.quality.services.newest import refresh_part_copies
 from labdb.quality.services.rules import MIN_UNITS_LOT, max_rms_rel, min_cpk
 from labdb.quality.services.summaries import JUDGED, MIN_UNITS_Z, SweepRow, summarize
 from labdb.quality.services.within import may_raise, unit_proposals
@@ -49,6 +50,7 @@ _ROW_FIELDS = (
     "current_fit__cp",
     "current_fit__rms_rel",
     "current_fit__converged",
+    "measured_at",
 )
 
 
@@ -140,7 +142,9 @@ def recompute_part(
         changed = {}
         for key, rows in groups.items():
             sha = _sha(
-                ctx_sha + "|" + ";".join(f"{r.sweep}:{r.fit}:{r.temperature_c!r}" for r in rows)
+                ctx_sha
+                + "|"
+                + ";".join(f"{r.sweep}:{r.fit}:{r.temperature_c!r}:{r.measured_at}" for r in rows)
             )
             old = summaries.get(key)
             if force or old is None or old.inputs_sha256 != sha:
@@ -167,6 +171,7 @@ def recompute_part(
                 s.save(update_fields=["digest", "received_on", "computed_at"])
         report.lot_fits, report.lot_fit_failures = fit_lot_models([summaries[k] for k in changed])
         report.flags = sync_flags(part, _proposals(part, summaries))
+        refresh_part_copies([part.pk])
     return report
 
 

@@ -8,6 +8,7 @@ database work is in :mod:`labdb.quality.services.recompute`.
 
 from __future__ import annotations
 
+import datetime as dt
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -36,6 +37,8 @@ SUMMARISED = ("cjo", "vj", "m", "cp", "c_low", "c_high", "swing", "c_spec", "rms
 #: each sweep entry holds its own).
 UNIT_FIGURES = ("c_low", "c_high", "swing", "c_spec", "rms_rel")
 
+_OLDEST = dt.datetime.min  # only compared with another undated sweep's
+
 #: Points of the common bias grid the lot band and curve distances are evaluated on.
 N_GRID = 41
 
@@ -63,6 +66,7 @@ class SweepRow:
     cp: float
     rms_rel: float
     converged: bool
+    measured_at: dt.datetime | None = None
     max_rise: float = float("nan")
     noise: float = float("nan")
 
@@ -245,8 +249,21 @@ def summarize(
         "swing_min": _f(np.nanmin(unit_fig["swing"])),
         "bias_min_v": common[0],
         "bias_max_v": common[1],
+        "unit_fits": [
+            _newest_fit(unit_ids[k], labels[k], [rows[i] for i in b]) for k, b in enumerate(blocks)
+        ],
     }
     return out
+
+
+def _newest_fit(unit: int, label: str, rows: list[SweepRow]) -> list:
+    """[unit id, label, CJO, VJ, M, CP] of the unit's most recent sweep in this condition set.
+
+    A sweep without a measurement time is older than any with one; the later-stored sweep
+    wins a tie. Search evaluates unit curves over its window from these.
+    """
+    newest = max(rows, key=lambda r: (r.measured_at is not None, r.measured_at or _OLDEST, r.sweep))
+    return [unit, label, newest.cjo, newest.vj, newest.m, newest.cp]
 
 
 def _band(curves: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
