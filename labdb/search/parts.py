@@ -33,11 +33,14 @@ from django.db.models import (
 
 from labdb.catalog.models import Part
 from labdb.quality.models import Flag, FlagState
+from labdb.quality.services.curves import capacitance_many
 from labdb.search.expressions import as_float, const, lot_c
 from labdb.search.queries import SearchQuery
 from labdb.search.results import LotFigures, PartHit, SearchPage, UnitSpread
 from labdb.search.rows import (
+    EDGE_SLACK_V,
     condition_rows,
+    plain_rows,
     spans,
     summaries,
     unit_capacitances,
@@ -122,7 +125,7 @@ def rank_parts(q: SearchQuery) -> Ranking:
         .order_by(F("passes").desc(), *_ORDER[q.sort])
     )
     ids, beyond_rows, beyond_parts = [], 0, 0
-    for pid, ok, n_beyond in groups.values_list("part_id", "passes", "n_beyond"):
+    for pid, ok, n_beyond in plain_rows(groups.values_list("part_id", "passes", "n_beyond")):
         if ok:
             ids.append(pid)
         if n_beyond:
@@ -213,26 +216,29 @@ def _refine(q: SearchQuery, page_ids: list[int]) -> list[PartHit]:
     lots_by_part: dict[int, list[LotFigures]] = defaultdict(list)
     left_out: dict[int, int] = defaultdict(int)
     counted: list[dict] = []
-    rows = search_rows(q).filter(part_id__in=page_ids).order_by("received_on", "lot_id")
-    for r in rows.values(
-        "lot_id",
-        "lot__code",
-        "part_id",
-        "received_on",
-        "temperature_c",
-        "n_units",
-        "cjo_med",
-        "vj_med",
-        "m_med",
-        "cp_med",
-        "c1",
-        "c2",
-        "swing",
-        "bias_min_v",
-        "bias_max_v",
-        "spans",
-        "unit_fits",
-    ):
+    rows = list(
+        condition_rows(q)
+        .filter(part_id__in=page_ids)
+        .order_by("received_on", "lot_id")
+        .values(
+            "lot_id",
+            "lot__code",
+            "part_id",
+            "received_on",
+            "temperature_c",
+            "n_units",
+            "cjo_med",
+            "vj_med",
+            "m_med",
+            "cp_med",
+            "bias_min_v",
+            "bias_max_v",
+            "unit_fits",
+        )
+    )
+    for r, (v1, v2), (c1, c2) in zip(rows, *_median_units(q, parts, rows), strict=True):
+        r["c1"], r["c2"], r["swing"] = c1, c2, c1 / c2
+        r["spans"] = r["bias_min_v"] <= v1 + EDGE_SLACK_V and r["bias_max_v"] >= v2 - EDGE_SLACK_V
         if not r["spans"] and not q.include_extrapolated:
             left_out[r["part_id"]] += 1
             continue
@@ -246,6 +252,16 @@ def _refine(q: SearchQuery, page_ids: list[int]) -> list[PartHit]:
         for pid in page_ids
         if lots_by_part.get(pid)
     ]
+
+
+def _median_units(q: SearchQuery, parts: dict, rows: list[dict]) -> tuple[list, list]:
+    """Each lot's window [V] and its median unit's C there [F] (the physics formula, as the
+    ranking pass evaluated it in the database), for one page of lots."""
+    if not rows:
+        return [], []
+    windows = np.array([_window_of(q, parts[r["part_id"]]) for r in rows], dtype=float)
+    params = np.array([(r["cjo_med"], r["vj_med"], r["m_med"], r["cp_med"]) for r in rows])
+    return windows.tolist(), capacitance_many(windows, *params.T).tolist()
 
 
 def _lot(r: dict) -> LotFigures:

@@ -10,6 +10,7 @@ from __future__ import annotations
 import datetime as dt
 
 import numpy as np
+from django.db import connections
 from django.db.models import Exists, F, OuterRef, Q, QuerySet, Value
 from django.db.models.functions import Coalesce
 
@@ -67,6 +68,19 @@ def condition_rows(q: PartFilter) -> QuerySet:
             .filter(~Exists(_later_rows(q)))
         )
     return rows
+
+
+def plain_rows(qs: QuerySet) -> list[tuple]:
+    """The rows of a ``values_list`` queryset of plain numbers, straight from the cursor.
+
+    The ranking pass returns thousands of (id, number, ...) rows that need no conversion;
+    skipping Django's per-row handling saves a tenth of a search.
+    """
+    compiler = qs.query.get_compiler(using=qs.db)
+    sql, params = compiler.as_sql()
+    with connections[qs.db].cursor() as cursor:
+        cursor.execute(sql, params)
+        return cursor.fetchall()
 
 
 def summaries(n: int) -> str:
