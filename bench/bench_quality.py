@@ -2,9 +2,10 @@
 
 Usage (from the repository root)::
 
-    DATABASE_URL=postgres://postgres@127.0.0.1:5432/labdb_bench .venv/bin/python bench/bench_quality.py
+    .venv/bin/python bench/bench_quality.py
 
-Without DATABASE_URL it runs on a throw-away SQLite file. The database is migrated, an
+Without DATABASE_URL it uses labdb_bench_quality on the local PostgreSQL server (created
+when missing), or a throw-away SQLite file when no server answers. The database is migrated, an
 earlier bench part is removed, and a generated part is bulk-inserted: 200 lots of 25 units,
 one 41-point C–V sweep per unit (seeded junction parameters, 1.4 % unit spread, 0.25 %
 reading noise) with a current fit holding the generating parameters, as a perfect fitter
@@ -34,11 +35,13 @@ from datetime import date, timedelta
 from pathlib import Path
 
 from support.machine import cpu_model  # noqa: E402
+from support.pg import ensure_database  # noqa: E402
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 PART = "BENCH-Q-1"
+PG_URL = "postgres://postgres@127.0.0.1:5432/labdb_bench_quality"
 N_POINTS = 41
 SEED = 20261202
 
@@ -47,8 +50,12 @@ def setup_django() -> None:
     os.environ.setdefault("SECRET_KEY", "bench-only-key-not-secret")
     os.environ.setdefault("DEBUG", "0")
     if not os.environ.get("DATABASE_URL"):
-        tmp = Path(tempfile.mkdtemp(prefix="labdb-bench-quality-"))
-        os.environ["DATABASE_URL"] = f"sqlite:///{tmp / 'bench.sqlite3'}"
+        # The target is for PostgreSQL: the local server when it answers, else SQLite.
+        if ensure_database(PG_URL, "bench_quality"):
+            os.environ["DATABASE_URL"] = PG_URL
+        else:
+            tmp = Path(tempfile.mkdtemp(prefix="labdb-bench-quality-"))
+            os.environ["DATABASE_URL"] = f"sqlite:///{tmp / 'bench.sqlite3'}"
     os.environ.setdefault("DJANGO_SETTINGS_MODULE", "labdb.settings")
     import django
 

@@ -27,6 +27,7 @@ from collections import defaultdict
 from pathlib import Path
 
 import numpy as np
+from support.pg import ensure_database
 
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
@@ -47,23 +48,6 @@ def bench_database_url() -> str:
     if url:
         print(f"bench_search: DATABASE_URL names no benchmark database; using {DEFAULT_URL}")
     return DEFAULT_URL
-
-
-def ensure_database(url: str) -> bool:
-    """Create the benchmark database if the server is up and it is missing."""
-    import psycopg
-
-    name = url.rsplit("/", 1)[-1].split("?", 1)[0]
-    server = url.rsplit("/", 1)[0] + "/postgres"
-    try:
-        with psycopg.connect(server, autocommit=True, connect_timeout=3) as conn:
-            found = conn.execute("SELECT 1 FROM pg_database WHERE datname = %s", [name]).fetchone()
-            if not found:
-                conn.execute(f'CREATE DATABASE "{name}"')
-    except psycopg.OperationalError as exc:
-        print(f"bench_search: skipped, PostgreSQL is not reachable ({exc})".strip())
-        return False
-    return True
 
 
 os.environ["DATABASE_URL"] = bench_database_url()
@@ -297,7 +281,8 @@ def main() -> None:
     ap.add_argument("--generate-only", action="store_true")
     args = ap.parse_args()
 
-    if not ensure_database(os.environ["DATABASE_URL"]):
+    if not ensure_database(os.environ["DATABASE_URL"], "bench_search"):
+        print("bench_search: skipped")
         return
     import django
 
