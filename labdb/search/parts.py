@@ -3,8 +3,9 @@
 Stage 1 (database, every matching lot summary): evaluate the median unit's C(v1), C(v2) and
 swing with :mod:`labdb.search.expressions`, leave out lots whose measured range the window
 exceeds, group by part (worst-lot swing, capacitance range, units), filter and order.
-Stage 2 (one page of parts only): the page's lot rows, open-flag counts and unit fits —
-unit swings are evaluated by the same expressions on the fit columns — summarised in Python.
+Stage 2 (one page of parts only): the page's lot rows and open-flag counts; the lots'
+median units and the unit fits their summaries hold are evaluated with the physics formula
+in numpy and summarised in Python.
 """
 
 from __future__ import annotations
@@ -217,8 +218,7 @@ def _refine(q: SearchQuery, page_ids: list[int]) -> list[PartHit]:
     left_out: dict[int, int] = defaultdict(int)
     counted: list[dict] = []
     rows = list(
-        condition_rows(q)
-        .filter(part_id__in=page_ids)
+        condition_rows(q, page_ids)
         .order_by("received_on", "lot_id")
         .values(
             "lot_id",

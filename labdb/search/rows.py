@@ -31,12 +31,13 @@ def open_flags(part_ref: str = "part") -> QuerySet:
     return Flag.objects.filter(part=OuterRef(part_ref), state=FlagState.OPEN, active=True)
 
 
-def condition_rows(q: PartFilter) -> QuerySet:
+def condition_rows(q: PartFilter, part_ids: list[int] | None = None) -> QuerySet:
     """Lot summaries matching the part filters, conditions and lot choice (no window yet).
 
     Works on the summary's own copies of the lot's part and receipt date, so the lots table
     is never joined here; summaries not yet linked to their part are not searched (see
-    :func:`unlinked_summaries`).
+    :func:`unlinked_summaries`). ``part_ids``: only these parts, already chosen by the part
+    filters (a page of results), so those filters are not applied again.
     """
     rows = LotSummary.objects.filter(
         illumination=q.illumination,
@@ -44,6 +45,8 @@ def condition_rows(q: PartFilter) -> QuerySet:
         temperature_c__lte=q.temp_max_c,
         part__isnull=False,
     )
+    if part_ids is not None:
+        return _lot_choice(rows.filter(part_id__in=part_ids), q)
     # Part filters as subqueries on the summary's part id, not a join: archived parts are
     # few, so "not among them" is a small hashed lookup per row where a join would hash
     # every part first (a third of the ranking pass at ten thousand parts).
@@ -57,6 +60,11 @@ def condition_rows(q: PartFilter) -> QuerySet:
         rows = rows.filter(part_id__in=Part.objects.filter(wanted).values("pk"))
     if q.exclude_flagged:
         rows = rows.filter(~Exists(open_flags()))
+    return _lot_choice(rows, q)
+
+
+def _lot_choice(rows: QuerySet, q: PartFilter) -> QuerySet:
+    """Keep the lots the query counts: every lot, the latest, or those received since."""
     if q.lots == "since":
         rows = rows.filter(received_on__gte=q.since)
     elif q.lots == "latest":
