@@ -227,6 +227,10 @@ def main() -> None:
     from labdb.quality.services import recompute_lots, recompute_part
 
     remove_part()
+    # As the web and worker processes do at start-up (labdb/runtime.py).
+    from labdb.runtime import freeze_startup_heap
+
+    freeze_startup_heap()
     rng = np.random.default_rng(SEED)
     part = Part.objects.create(
         part_number=PART,
