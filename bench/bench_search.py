@@ -27,7 +27,7 @@ from collections import defaultdict
 from pathlib import Path
 
 import numpy as np
-from support.pg import ensure_database
+from support.pg import ensure_database, settle
 
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
@@ -310,6 +310,8 @@ def main() -> None:
 
     rng = np.random.default_rng(SEED)
     sq, tq = search_queries(rng, args.queries), tank_queries(rng, args.queries)
+    with connection.cursor() as cursor:
+        settled = settle(cursor)
     search_parts(sq[0]), find_tanks(tq[0])  # warm caches and connections
     # As the web server does at start-up (labdb/wsgi.py): without it, Python's full garbage
     # collections walk the whole start-up heap, ~80 ms each, inside whichever query runs.
@@ -350,7 +352,10 @@ def main() -> None:
         agree = same
 
     print(f"machine: {machine()}")
-    print(f"start-up heap frozen as the web server does ({frozen:,} objects; labdb.runtime)")
+    print(
+        f"start-up heap frozen as the web server does ({frozen:,} objects; labdb.runtime); "
+        f"server settled for {settled:.1f} s (checkpoint, autovacuum done)"
+    )
     print(
         f"search_parts, {len(sq)} random swing-window queries: median "
         f"{statistics.median(s_times) * 1e3:.1f} ms, p95 {p95(s_times) * 1e3:.1f} ms "

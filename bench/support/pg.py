@@ -19,3 +19,25 @@ def ensure_database(url: str, who: str = "bench") -> bool:
         print(f"{who}: PostgreSQL is not reachable ({exc})".strip())
         return False
     return True
+
+
+def settle(cursor, wait_s: float = 60.0) -> float:
+    """Let the server finish what earlier benchmarks left it doing before timing queries.
+
+    Writes a checkpoint and waits (up to ``wait_s``) while autovacuum workers are busy:
+    the import and quality benchmarks write and delete hundreds of thousands of rows, and
+    the vacuum that follows would otherwise share the two cores with the timed queries.
+    Returns the seconds waited.
+    """
+    import time
+
+    t0 = time.perf_counter()
+    cursor.execute("CHECKPOINT")
+    while time.perf_counter() - t0 < wait_s:
+        cursor.execute(
+            "SELECT count(*) FROM pg_stat_activity WHERE backend_type = 'autovacuum worker'"
+        )
+        if cursor.fetchone()[0] == 0:
+            break
+        time.sleep(1.0)
+    return time.perf_counter() - t0
