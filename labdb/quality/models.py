@@ -9,6 +9,23 @@ from django.db.models import Q
 from labdb.catalog.models import Lot, Part, Unit
 
 
+#: Every column search's ranking pass reads, in the order its covering indexes keep them.
+SEARCH_COLUMNS = [
+    "illumination",
+    "temperature_c",
+    "part",
+    "received_on",
+    "lot",
+    "n_units",
+    "bias_min_v",
+    "bias_max_v",
+    "cjo_med",
+    "vj_med",
+    "m_med",
+    "cp_med",
+]
+
+
 class LotSummary(models.Model):
     """Per lot and condition set: statistics of the unit fits and derived figures.
 
@@ -82,39 +99,13 @@ class LotSummary(models.Model):
             # in the key, PostgreSQL scans this narrow index instead of the rows, whose
             # figures/band/digest JSON makes them wide.
             models.Index(
-                fields=[
-                    "illumination",
-                    "temperature_c",
-                    "part",
-                    "received_on",
-                    "lot",
-                    "n_units",
-                    "bias_min_v",
-                    "bias_max_v",
-                    "cjo_med",
-                    "vj_med",
-                    "m_med",
-                    "cp_med",
-                ],
+                fields=SEARCH_COLUMNS,
                 name="summary_search_cover_idx",
             ),
             # Search's "latest lot": the same columns over the one newest summary per part
             # and condition set, a tenth of the rows.
             models.Index(
-                fields=[
-                    "illumination",
-                    "temperature_c",
-                    "part",
-                    "received_on",
-                    "lot",
-                    "n_units",
-                    "bias_min_v",
-                    "bias_max_v",
-                    "cjo_med",
-                    "vj_med",
-                    "m_med",
-                    "cp_med",
-                ],
+                fields=SEARCH_COLUMNS,
                 condition=Q(newest_in_condition=True),
                 name="summary_search_newest_idx",
             ),

@@ -25,12 +25,12 @@ def junction_c(v, cjo, vj, m, cp):
 @pytest.fixture
 def catalogue(stock):
     steep = stock.part("SRCH-STEEP")
-    stock.lot(steep, "A", [STEEP] * 3)
+    stock.lot(steep, "A", None, units=[STEEP] * 3)
     hyper = stock.part("SRCH-HYPER")
-    stock.lot(hyper, "A", [HYPER] * 3)
-    stock.lot(hyper, "B", [HYPER, HYPER, (70e-12, 1.2, 0.9, 2e-12)])
+    stock.lot(hyper, "A", None, units=[HYPER] * 3)
+    stock.lot(hyper, "B", None, units=[HYPER, HYPER, (70e-12, 1.2, 0.9, 2e-12)])
     flat = stock.part("SRCH-FLAT", kind="led")
-    stock.lot(flat, "A", [FLAT] * 2)
+    stock.lot(flat, "A", None, units=[FLAT] * 2)
     return stock
 
 
@@ -125,7 +125,7 @@ def test_the_worst_unit_and_lot_of_a_part_are_named(client_for, catalogue):
 
 def test_extrapolated_lots_are_left_out_with_a_warning_or_marked(client_for, stock):
     part = stock.part("SRCH-NARROW")
-    stock.lot(part, "A", [STEEP] * 2, measured=(0.0, 5.0))
+    stock.lot(part, "A", None, units=[STEEP] * 2, measured=(0.0, 5.0))
     client = client_for("viewer")
     left_out = client.get("/api/v1/search/?v1_v=1&v2_v=10").json()
     assert left_out["results"] == [] and "extrapolated" in left_out["warnings"][0]

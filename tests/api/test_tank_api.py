@@ -33,8 +33,8 @@ def params(p):
 
 @pytest.fixture
 def tanks(stock):
-    stock.lot(stock.part("TK-GOOD"), "A", [GOOD, GOOD, GOOD, GOOD, WEAK])
-    stock.lot(stock.part("TK-WEAK"), "A", [WEAK] * 2)
+    stock.lot(stock.part("TK-GOOD"), "A", None, units=[GOOD, GOOD, GOOD, GOOD, WEAK])
+    stock.lot(stock.part("TK-WEAK"), "A", None, units=[WEAK] * 2)
     return stock
 
 
