@@ -8,7 +8,6 @@ from django.db.models import Q
 
 from labdb.catalog.models import Lot, Part, Unit
 
-
 #: Every column search's ranking pass reads, in the order its covering indexes keep them.
 SEARCH_COLUMNS = [
     "illumination",
