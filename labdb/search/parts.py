@@ -41,19 +41,21 @@ from labdb.search.results import LotFigures, PartHit, SearchPage, UnitSpread
 from labdb.search.rows import (
     EDGE_SLACK_V,
     condition_rows,
-    plain_rows,
+    plain_rows_sql,
     spans,
+    sql_of,
     summaries,
     unit_capacitances,
     unlinked_summaries,
 )
 
 # Ties go to the part registered first: ordering by the id keeps the grouping to one column.
+# (aggregate, SQL direction); a part without dated lots sorts last among the most recent.
 _ORDER = {
-    "swing": [F("swing_worst").desc(), "part_id"],
-    "cap_high": [F("c_mean").desc(), "part_id"],
-    "cap_low": [F("c_mean").asc(), "part_id"],
-    "recent": [F("latest").desc(nulls_last=True), "part_id"],
+    "swing": ("swing_worst", "DESC"),
+    "cap_high": ("c_mean", "DESC"),
+    "cap_low": ("c_mean", "ASC"),
+    "recent": ("latest", "DESC NULLS LAST"),
 }
 
 
@@ -118,20 +120,24 @@ def rank_parts(q: SearchQuery) -> Ranking:
         passes &= Q(c_low__gte=q.c_min_f)
     if q.c_max_f is not None:
         passes &= Q(c_high__lte=q.c_max_f)
-    groups = (
-        groups.annotate(
-            passes=Case(When(passes, then=Value(1)), default=Value(0), output_field=IntegerField())
-        )
-        .filter(passes | Q(n_beyond__gt=0))
-        .order_by(F("passes").desc(), *_ORDER[q.sort])
+    groups = groups.annotate(
+        passes=Case(When(passes, then=Value(1)), default=Value(0), output_field=IntegerField())
     )
-    ids, beyond_rows, beyond_parts = [], 0, 0
-    for pid, ok, n_beyond in plain_rows(groups.values_list("part_id", "passes", "n_beyond")):
-        if ok:
-            ids.append(pid)
-        if n_beyond:
-            beyond_rows += n_beyond
-            beyond_parts += 1
+    key, direction = _ORDER[q.sort]
+    inner, params = sql_of(groups.order_by().values_list("part_id", "passes", "n_beyond", key))
+    # Only passing parts come back, in order; the window sums over every group first give
+    # what extrapolation left out (one row is kept when nothing passes, for those sums).
+    sql = (
+        "SELECT w.part_id, w.passes, w.beyond_rows, w.beyond_parts FROM ("
+        " SELECT g.*, SUM(g.n_beyond) OVER () AS beyond_rows,"
+        " SUM(CASE WHEN g.n_beyond > 0 THEN 1 ELSE 0 END) OVER () AS beyond_parts,"
+        " ROW_NUMBER() OVER () AS row_no"
+        f" FROM ({inner}) g) w WHERE w.passes = 1 OR w.row_no = 1"
+        f' ORDER BY w.passes DESC, w."{key}" {direction}, w.part_id'
+    )
+    rows = plain_rows_sql(groups.db, sql, params)
+    ids = [pid for pid, ok, _, _ in rows if ok]
+    beyond_rows, beyond_parts = (int(rows[0][2] or 0), int(rows[0][3] or 0)) if rows else (0, 0)
     return Ranking(ids, beyond_rows, beyond_parts)
 
 

@@ -78,15 +78,18 @@ def _lot_choice(rows: QuerySet, q: PartFilter) -> QuerySet:
     return rows
 
 
-def plain_rows(qs: QuerySet) -> list[tuple]:
-    """The rows of a ``values_list`` queryset of plain numbers, straight from the cursor.
+def sql_of(qs: QuerySet) -> tuple[str, tuple]:
+    """The SQL and parameters a queryset would run (to be wrapped in a larger statement)."""
+    return qs.query.get_compiler(using=qs.db).as_sql()
+
+
+def plain_rows_sql(alias: str, sql: str, params) -> list[tuple]:
+    """Rows of plain numbers straight from the cursor.
 
     The ranking pass returns thousands of (id, number, ...) rows that need no conversion;
     skipping Django's per-row handling saves a tenth of a search.
     """
-    compiler = qs.query.get_compiler(using=qs.db)
-    sql, params = compiler.as_sql()
-    with connections[qs.db].cursor() as cursor:
+    with connections[alias].cursor() as cursor:
         cursor.execute(sql, params)
         return cursor.fetchall()
 
