@@ -29,6 +29,8 @@ import threading
 import time
 from pathlib import Path
 
+from support.machine import cpu_model
+
 ROOT = Path(__file__).resolve().parent.parent
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
@@ -101,16 +103,6 @@ def __getattr__(name: str):
 
 
 # --- the driver ------------------------------------------------------------------------------
-
-
-def cpu_model() -> str:
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                return line.split(":", 1)[1].strip()
-    except OSError:
-        pass
-    return platform.processor() or "unknown"
 
 
 def prepare(n_sweeps: int) -> tuple[int, str]:

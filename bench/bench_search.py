@@ -27,6 +27,7 @@ from collections import defaultdict
 from pathlib import Path
 
 import numpy as np
+from support.machine import cpu_model
 from support.pg import ensure_database, settle
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -65,14 +66,6 @@ def p95(xs):
 def machine() -> str:
     from django.db import connection
 
-    cpu = "unknown CPU"
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                cpu = line.split(":", 1)[1].strip()
-                break
-    except OSError:
-        pass
     with connection.cursor() as c:
         c.execute("SELECT version()")
         db = c.fetchone()[0].split(" on ")[0]
@@ -80,7 +73,7 @@ def machine() -> str:
     sum(range(10**7))  # a fixed amount of work, so slower machines can be compared
     calib = time.process_time() - t0
     return (
-        f"{platform.node()} · {cpu} · {os.cpu_count()} cores · Python "
+        f"{platform.node()} · {cpu_model()} · {os.cpu_count()} cores · Python "
         f"{platform.python_version()} · {db} · load average {os.getloadavg()[0]:.1f} · "
         f"sum(range(1e7)) takes {calib:.2f} s CPU"
     )
