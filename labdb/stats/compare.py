@@ -63,14 +63,7 @@ def rank_shift(new: Any, earlier: Any) -> RankTest:
     # With every value tied the variance of U is 0; there is then no evidence of a shift.
     if not np.isfinite(p):
         p = 1.0
-    med_new = float(np.median(a))
-    med_old = float(np.median(b))
-    if med_old != 0.0:
-        shift = (med_new - med_old) / abs(med_old)
-    elif med_new == 0.0:
-        shift = 0.0
-    else:
-        shift = float(np.copysign(np.inf, med_new))
+    shift = relative_shift(float(np.median(a)), float(np.median(b)))
     return RankTest(
         statistic=float(res.statistic),
         p_value=p,
@@ -78,6 +71,15 @@ def rank_shift(new: Any, earlier: Any) -> RankTest:
         n_earlier=int(b.size),
         median_shift_rel=shift,
     )
+
+
+def relative_shift(med_new: float, med_old: float) -> float:
+    """(med_new − med_old)/|med_old| [dimensionless]; ±inf when only med_old is 0, 0 when both are."""
+    if med_old != 0.0:
+        return (med_new - med_old) / abs(med_old)
+    if med_new == 0.0:
+        return 0.0
+    return float(np.copysign(np.inf, med_new))
 
 
 def holm(p_values: Any) -> np.ndarray:

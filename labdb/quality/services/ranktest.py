@@ -16,6 +16,7 @@ import numpy as np
 from scipy.special import ndtr
 
 from labdb.stats import RankTest, rank_shift
+from labdb.stats.compare import relative_shift
 
 #: scipy's ``_mwu_choose_method``: exact when a sample has at most this many values and no ties.
 EXACT_MAX = 8
@@ -92,12 +93,5 @@ class RankPool:
         p = float(np.clip(2.0 * ndtr(-z), 0.0, 1.0))
         if not np.isfinite(p):
             p = 1.0
-        med_new = _sorted_median(x)
-        med_old = _sorted_median(earlier)
-        if med_old != 0.0:
-            shift = (med_new - med_old) / abs(med_old)
-        elif med_new == 0.0:
-            shift = 0.0
-        else:
-            shift = float(np.copysign(np.inf, med_new))
+        shift = relative_shift(_sorted_median(x), _sorted_median(earlier))
         return RankTest(statistic=u1, p_value=p, n_new=n1, n_earlier=n2, median_shift_rel=shift)
