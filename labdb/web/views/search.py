@@ -23,6 +23,16 @@ LOT_LABELS = [
 ]
 
 
+def number_field(label: str, required: bool = False, help_text: str = "", **attrs):
+    """A decimal input field (any step); ``attrs`` go on the widget, e.g. a placeholder."""
+    return forms.FloatField(
+        required=required,
+        label=label,
+        help_text=help_text,
+        widget=forms.NumberInput(attrs={"step": "any", **attrs}),
+    )
+
+
 class PartFilterForm(forms.Form):
     """Filters the search and the tank finder share (GET names kept short for bookmarks)."""
 
@@ -31,16 +41,8 @@ class PartFilterForm(forms.Form):
         choices=[("", "any kind")] + list(PartKind.choices), required=False, label="Kind"
     )
     light = forms.ChoiceField(choices=Illumination.choices, required=False, label="Illumination")
-    t_min = forms.FloatField(
-        required=False,
-        label="Temperature from (°C)",
-        widget=forms.NumberInput(attrs={"step": "any", "placeholder": "20"}),
-    )
-    t_max = forms.FloatField(
-        required=False,
-        label="Temperature to (°C)",
-        widget=forms.NumberInput(attrs={"step": "any", "placeholder": "30"}),
-    )
+    t_min = number_field("Temperature from (°C)", placeholder="20")
+    t_max = number_field("Temperature to (°C)", placeholder="30")
     lots = forms.ChoiceField(choices=LOT_LABELS, required=False, label="Lots that count")
     since = forms.DateField(
         required=False,
@@ -96,35 +98,20 @@ class PartFilterForm(forms.Form):
 
 
 class SearchForm(PartFilterForm):
-    v1 = forms.FloatField(
-        required=False,
-        label="Window start V1 (V)",
-        widget=forms.NumberInput(attrs={"step": "any"}),
+    v1 = number_field(
+        "Window start V1 (V)",
         help_text="Reverse bias. Leave V1 and V2 empty to judge each part over "
         "its own reference window.",
     )
-    v2 = forms.FloatField(
-        required=False, label="Window end V2 (V)", widget=forms.NumberInput(attrs={"step": "any"})
-    )
-    min_swing = forms.FloatField(
-        required=False,
-        label="Minimum swing C(V1)/C(V2)",
-        widget=forms.NumberInput(attrs={"step": "any"}),
-        help_text="Every counted lot's median unit must reach it.",
+    v2 = number_field("Window end V2 (V)")
+    min_swing = number_field(
+        "Minimum swing C(V1)/C(V2)", help_text="Every counted lot's median unit must reach it."
     )
     c_at = forms.ChoiceField(
         choices=[("v1", "at V1"), ("v2", "at V2")], required=False, label="Capacitance limits apply"
     )
-    c_min = forms.FloatField(
-        required=False,
-        label="Minimum capacitance (pF)",
-        widget=forms.NumberInput(attrs={"step": "any"}),
-    )
-    c_max = forms.FloatField(
-        required=False,
-        label="Maximum capacitance (pF)",
-        widget=forms.NumberInput(attrs={"step": "any"}),
-    )
+    c_min = number_field("Minimum capacitance (pF)")
+    c_max = number_field("Maximum capacitance (pF)")
     sort = forms.ChoiceField(
         choices=[
             ("swing", "swing, worst lot, largest first"),

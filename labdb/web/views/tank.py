@@ -16,36 +16,27 @@ from labdb.search.queries import TankQuery
 from labdb.search.services import find_tanks
 from labdb.search.tank_q import lot_q_at
 from labdb.web import charts
-from labdb.web.views.search import PartFilterForm
+from labdb.web.views.search import PartFilterForm, number_field
 
 DASHES = ["solid", "dash", "dot", "dashdot", "longdash", "longdashdot"]
 CHART_PARTS = 6  # more curves than this stop being readable
 
 
-def _num(label: str, required: bool = False, help_text: str = "", **attrs):
-    return forms.FloatField(
-        required=required,
-        label=label,
-        help_text=help_text,
-        widget=forms.NumberInput(attrs={"step": "any", **attrs}),
-    )
-
-
 class TankForm(PartFilterForm):
-    l_uh = _num("Inductance L (µH)", required=True)
-    c_fixed = _num(
+    l_uh = number_field("Inductance L (µH)", required=True)
+    c_fixed = number_field(
         "Fixed parallel capacitance (pF)",
         placeholder="0",
         help_text="Everything in parallel with the tank, strays included.",
     )
-    cc = _num(
+    cc = number_field(
         "Series coupling capacitor (pF)",
         help_text="Optional; leave empty when the junction sits straight across the tank.",
     )
-    f_low = _num("Band from (MHz)", required=True)
-    f_high = _num("Band to (MHz)", required=True)
-    v_min = _num("Bias available from (V)", placeholder="0", help_text="Reverse bias.")
-    v_max = _num("Bias available to (V)", required=True)
+    f_low = number_field("Band from (MHz)", required=True)
+    f_high = number_field("Band to (MHz)", required=True)
+    v_min = number_field("Bias available from (V)", placeholder="0", help_text="Reverse bias.")
+    v_max = number_field("Bias available to (V)", required=True)
     max_parts = forms.IntegerField(
         required=False,
         label="Parts to shortlist",
