@@ -11,6 +11,7 @@ from labdb.physics.junction import (
     MODELS,
     capacitance_of,
     junction_capacitance,
+    junction_capacitance_many,
     params_of,
 )
 from labdb.physics.oscillator import (
@@ -25,6 +26,7 @@ from labdb.physics.tuning import (
     band_coverage,
     bias_for_frequency,
     capacitance_ratio,
+    coupled,
     fixed_capacitance_to_centre,
     tank_capacitance,
     tank_frequency,
@@ -46,10 +48,12 @@ __all__ = [
     "capacitance_from_frequency",
     "capacitance_of",
     "capacitance_ratio",
+    "coupled",
     "fit_junction",
     "fit_junction_batch",
     "fixed_capacitance_to_centre",
     "junction_capacitance",
+    "junction_capacitance_many",
     "mott_schottky",
     "params_of",
     "relative_capacitance",

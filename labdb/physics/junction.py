@@ -74,6 +74,45 @@ def junction_capacitance(
     return np.where(depleted, c_dep, c_fwd) + cp
 
 
+def junction_capacitance_many(
+    bias_v: np.ndarray,
+    cjo: np.ndarray,
+    vj: np.ndarray,
+    m: np.ndarray,
+    cp: np.ndarray,
+    fc: float = DEFAULT_FC,
+) -> np.ndarray:
+    """Capacitance of many junction models at once, the formula of ``physics.junction``.
+
+    C = CJO·(1 + V_R/VJ)^(−M) + CP for V_R ≥ −FC·VJ and SPICE's linear extension beyond
+    (as :func:`junction_capacitance`, which takes one parameter set at a time and is the
+    reference in tests/quality/test_batch_curves_match_the_physics_module.py).
+
+    Parameters
+    ----------
+    bias_v : ndarray, shape (n,) or (b, n)
+        Reverse bias [V], positive for reverse bias; a 1-D grid is shared by every model.
+    cjo, vj, m, cp : ndarray, shape (b,)
+        Parameters of ``b`` models: CJO [F] > 0, VJ [V] > 0, M [1] > 0, CP [F] ≥ 0.
+    fc : float, optional
+        Forward-bias depletion coefficient FC [1].
+
+    Returns
+    -------
+    ndarray, shape (b, n)
+        Capacitance [F].
+    """
+    vr = np.asarray(bias_v, dtype=float)
+    vr = np.broadcast_to(vr, (len(cjo), vr.shape[-1])) if vr.ndim == 1 else vr
+    cjo, vj, m, cp = (np.asarray(a, dtype=float)[:, None] for a in (cjo, vj, m, cp))
+    vd = -vr
+    depleted = vd < fc * vj
+    base = np.where(depleted, 1.0 - vd / vj, 1.0)
+    c_dep = cjo * base ** (-m)
+    c_fwd = cjo / (1.0 - fc) ** (1.0 + m) * (1.0 - fc * (1.0 + m) + m * vd / vj)
+    return np.where(depleted, c_dep, c_fwd) + cp
+
+
 def params_of(model: Any) -> dict[str, float]:
     """Junction parameters of a fit, a mapping, or any object with a ``params`` mapping.
 

@@ -98,8 +98,12 @@ def tank_capacitance(
 ) -> np.ndarray:
     """Total tank capacitance C_t(V) = C_fixed + C_j·Cc/(C_j + Cc) [F], shape like bias_v."""
     _, fixed, cc = _tank_args(1.0, fixed_f, coupling_f)
-    cj = capacitance_of(fit_or_params, _bias(bias_v))
-    return fixed + (cj if cc is None else cj * cc / (cj + cc))
+    return fixed + coupled(capacitance_of(fit_or_params, _bias(bias_v)), cc)
+
+
+def coupled(cj: Any, coupling_f: float | None) -> Any:
+    """The junction as the tank sees it [F]: C_j, or C_j·Cc/(C_j + Cc) through a series Cc."""
+    return cj if coupling_f is None else cj * coupling_f / (cj + coupling_f)
 
 
 def tank_frequency(

@@ -33,8 +33,8 @@ from django.db.models import (
 )
 
 from labdb.catalog.models import Part
+from labdb.physics import junction_capacitance_many
 from labdb.quality.models import Flag, FlagState
-from labdb.quality.services.curves import capacitance_many
 from labdb.search.expressions import as_float, const, lot_c
 from labdb.search.queries import SearchQuery
 from labdb.search.results import LotFigures, PartHit, SearchPage, UnitSpread
@@ -267,7 +267,7 @@ def _median_units(q: SearchQuery, parts: dict, rows: list[dict]) -> tuple[list, 
         return [], []
     windows = np.array([_window_of(q, parts[r["part_id"]]) for r in rows], dtype=float)
     params = np.array([(r["cjo_med"], r["vj_med"], r["m_med"], r["cp_med"]) for r in rows])
-    return windows.tolist(), capacitance_many(windows, *params.T).tolist()
+    return windows.tolist(), junction_capacitance_many(windows, *params.T).tolist()
 
 
 def _lot(r: dict) -> LotFigures:

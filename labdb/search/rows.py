@@ -15,8 +15,8 @@ from django.db.models import Exists, F, OuterRef, Q, QuerySet, Value
 from django.db.models.functions import Coalesce
 
 from labdb.catalog.models import Part
+from labdb.physics import junction_capacitance_many
 from labdb.quality.models import Flag, FlagState, LotSummary
-from labdb.quality.services.curves import capacitance_many
 from labdb.search.expressions import const
 from labdb.search.queries import PartFilter
 
@@ -165,5 +165,5 @@ def unit_capacitances(lots) -> tuple[list[int], list[str], np.ndarray, np.ndarra
         return [], [], empty, empty
     params = np.array([u[2:6] for _, u, _ in flat], dtype=float)
     bias = np.array([w for _, _, w in flat], dtype=float)
-    c = capacitance_many(bias, *params.T)
+    c = junction_capacitance_many(bias, *params.T)
     return [f[0] for f in flat], [f[1][1] for f in flat], c[:, 0], c[:, 1]

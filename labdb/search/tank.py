@@ -19,7 +19,7 @@ from django.db.models import BooleanField, Count, ExpressionWrapper, F, Min, Q, 
 from django.db.models.functions import Least, Sqrt
 
 from labdb.catalog.models import Part
-from labdb.physics import band_coverage, fixed_capacitance_to_centre
+from labdb.physics import band_coverage, coupled, fixed_capacitance_to_centre
 from labdb.search.expressions import as_float, branch_c, const, lot_c
 from labdb.search.queries import TankQuery
 from labdb.search.results import Suggestion, TankCandidate, TankLot, TankResult
@@ -331,16 +331,11 @@ def _unit_margins(q: TankQuery, rows: list[dict]):
     )
     out: dict[int, list] = defaultdict(list)
     for lot_id, label, ca, cb in zip(lot_ids, labels, c_a.tolist(), c_b.tolist(), strict=True):
-        fa = thomson_hz(q.inductance_h, q.fixed_f + _branch(ca, q.coupling_f))
-        fb = thomson_hz(q.inductance_h, q.fixed_f + _branch(cb, q.coupling_f))
+        fa = thomson_hz(q.inductance_h, q.fixed_f + coupled(ca, q.coupling_f))
+        fb = thomson_hz(q.inductance_h, q.fixed_f + coupled(cb, q.coupling_f))
         margin = min(q.f_low_hz / fa, fb / q.f_high_hz)
         out[lot_id].append((margin, f"unit {label}", (fa, fb)))
     return out
-
-
-def _branch(cj: float, coupling_f: float | None) -> float:
-    """The junction as the tank sees it: C_j, or C_j·Cc/(C_j + Cc) through a coupling Cc."""
-    return cj if coupling_f is None else cj * coupling_f / (cj + coupling_f)
 
 
 def _warnings(q: TankQuery, totals: _Totals, candidates: list[TankCandidate]) -> list[str]:

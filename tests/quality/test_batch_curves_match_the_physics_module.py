@@ -3,8 +3,8 @@
 import numpy as np
 from numpy.testing import assert_allclose
 
-from labdb.physics import junction_capacitance
-from labdb.quality.services.curves import capacitance_many, rise_checks, rise_limit
+from labdb.physics import junction_capacitance, junction_capacitance_many
+from labdb.quality.services.curves import rise_checks, rise_limit
 
 
 def test_many_models_at_once_equal_one_at_a_time():
@@ -15,7 +15,7 @@ def test_many_models_at_once_equal_one_at_a_time():
     m = rng.uniform(0.2, 1.5, b)
     cp = rng.uniform(0.0, 2e-12, b)
     bias = np.linspace(-1.0, 20.0, 50)  # forward bias too: SPICE's linear extension
-    many = capacitance_many(bias, cjo, vj, m, cp)
+    many = junction_capacitance_many(bias, cjo, vj, m, cp)
     # physics.junction_capacitance (checked against ngspice in tests/reference) is the reference.
     one = np.array([junction_capacitance(bias, *p) for p in zip(cjo, vj, m, cp, strict=True)])
     assert_allclose(many, one, rtol=1e-13, atol=0)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from labdb.physics.junction import DEFAULT_FC
+from labdb.physics import junction_capacitance_many
 
 #: A rise of C with reverse bias counts as non-monotonic when it exceeds this many standard
 #: deviations of the difference of two readings (√2·σ): at 5σ a Gaussian step exceeds it
@@ -17,45 +17,6 @@ RISE_FLOOR = 0.002
 #: σ = 1.4826·median|r| estimates Gaussian noise from residuals while ignoring a few glitches
 #: (the MAD-to-σ factor 1/Φ⁻¹(0.75), as in scipy.stats.median_abs_deviation(scale="normal")).
 _MAD_SIGMA = 1.482602218505602
-
-
-def capacitance_many(
-    bias_v: np.ndarray,
-    cjo: np.ndarray,
-    vj: np.ndarray,
-    m: np.ndarray,
-    cp: np.ndarray,
-    fc: float = DEFAULT_FC,
-) -> np.ndarray:
-    """Capacitance of many junction models at once, the formula of ``physics.junction``.
-
-    C = CJO·(1 + V_R/VJ)^(−M) + CP for V_R ≥ −FC·VJ and SPICE's linear extension beyond
-    (as :func:`labdb.physics.junction_capacitance`, which takes one parameter set at a time
-    and is the reference in tests/quality/test_curves_match_physics.py).
-
-    Parameters
-    ----------
-    bias_v : ndarray, shape (n,) or (b, n)
-        Reverse bias [V], positive for reverse bias; a 1-D grid is shared by every model.
-    cjo, vj, m, cp : ndarray, shape (b,)
-        Parameters of ``b`` models: CJO [F] > 0, VJ [V] > 0, M [1] > 0, CP [F] ≥ 0.
-    fc : float, optional
-        Forward-bias depletion coefficient FC [1].
-
-    Returns
-    -------
-    ndarray, shape (b, n)
-        Capacitance [F].
-    """
-    vr = np.asarray(bias_v, dtype=float)
-    vr = np.broadcast_to(vr, (len(cjo), vr.shape[-1])) if vr.ndim == 1 else vr
-    cjo, vj, m, cp = (np.asarray(a, dtype=float)[:, None] for a in (cjo, vj, m, cp))
-    vd = -vr
-    depleted = vd < fc * vj
-    base = np.where(depleted, 1.0 - vd / vj, 1.0)
-    c_dep = cjo * base ** (-m)
-    c_fwd = cjo / (1.0 - fc) ** (1.0 + m) * (1.0 - fc * (1.0 + m) + m * vd / vj)
-    return np.where(depleted, c_dep, c_fwd) + cp
 
 
 def rise_checks(
@@ -94,7 +55,7 @@ def rise_checks(
         has_step = np.isfinite(steps).any(axis=1)
         max_rise = np.full(b, np.nan)
         max_rise[has_step] = np.nanmax(steps[has_step], axis=1)
-        fitted = capacitance_many(np.nan_to_num(v), *params.T)
+        fitted = junction_capacitance_many(np.nan_to_num(v), *params.T)
         resid = np.where(np.isnan(c), np.nan, c / fitted - 1.0)
     noise = _MAD_SIGMA * np.nanmedian(np.abs(resid), axis=1) if b else np.zeros(0)
     return max_rise, noise

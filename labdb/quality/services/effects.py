@@ -6,7 +6,7 @@ from collections import defaultdict
 
 import numpy as np
 
-from labdb.quality.services.curves import capacitance_many
+from labdb.physics import junction_capacitance_many
 
 #: Points of the bias grid effect curves are given on.
 N_EFFECT_GRID = 41
@@ -31,7 +31,7 @@ def _params(sweeps: list[dict]) -> np.ndarray:
 
 
 def _median_curve(sweeps: list[dict], grid: np.ndarray) -> np.ndarray:
-    return np.median(capacitance_many(grid, *_params(sweeps).T), axis=0)
+    return np.median(junction_capacitance_many(grid, *_params(sweeps).T), axis=0)
 
 
 def _span(sweeps: list[dict]) -> tuple[float, float]:
@@ -102,7 +102,7 @@ def condition_effects(summaries) -> dict:
         rows = []
         for u, sweeps in members:
             t = np.array([s["temperature_c"] for s in sweeps], dtype=float)
-            c = capacitance_many(grid, *_params(sweeps).T)
+            c = junction_capacitance_many(grid, *_params(sweeps).T)
             rows.append(
                 {
                     "unit": u,

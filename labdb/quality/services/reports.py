@@ -7,9 +7,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from labdb.physics import junction_capacitance_many
 from labdb.quality.models import Flag, FlagState, LotSummary
 from labdb.quality.services.conditions import condition_key, condition_label, parse_condition
-from labdb.quality.services.curves import capacitance_many
 from labdb.quality.services.recompute import lot_order
 from labdb.quality.services.rules import SHIFT_ALPHA
 from labdb.quality.services.summaries import JUDGED
@@ -106,7 +106,7 @@ def unit_curves(units: list[dict], grid: np.ndarray, clip: bool = False) -> np.n
     out = np.full((len(units), grid.size), np.nan)
     for k, u in enumerate(units):
         p = np.array([[s["cjo"], s["vj"], s["m"], s["cp"]] for s in u["sweeps"]], dtype=float)
-        out[k] = np.median(capacitance_many(grid, *p.T), axis=0)
+        out[k] = np.median(junction_capacitance_many(grid, *p.T), axis=0)
         if clip:
             lo = min(s["bias_min_v"] for s in u["sweeps"])
             hi = max(s["bias_max_v"] for s in u["sweeps"])

@@ -13,8 +13,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from labdb.physics import junction_capacitance_many
 from labdb.quality.services.conditions import ReferenceWindow
-from labdb.quality.services.curves import capacitance_many
 from labdb.stats import (
     MAD_QUANTILE,
     MAD_TO_SIGMA,
@@ -154,7 +154,7 @@ def summarize(
     rows = sorted(rows, key=lambda r: (r.label, r.unit, r.sweep))
     params = np.array([[r.cjo, r.vj, r.m, r.cp] for r in rows], dtype=float)
     biases = [window.low_v, window.high_v] + ([spec_bias_v] if spec_bias_v is not None else [])
-    at = capacitance_many(np.array(biases, dtype=float), *params.T)
+    at = junction_capacitance_many(np.array(biases, dtype=float), *params.T)
     per_sweep = {
         "cjo": params[:, 0],
         "vj": params[:, 1],
@@ -186,7 +186,7 @@ def summarize(
     distance = np.full(len(unit_ids), np.nan)
     if common[1] > common[0]:
         grid = np.linspace(common[0], common[1], N_GRID)
-        curves = per_unit(capacitance_many(grid, *params.T))
+        curves = per_unit(junction_capacitance_many(grid, *params.T))
         p10, p50, p90 = _band(curves)
         distance = np.atleast_1d(curve_distance(curves, p50))
         out.band = {
